@@ -1,0 +1,53 @@
+import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import {
+	clearSessionCookie,
+	sessionCookieName,
+	setSessionCookie,
+	validateSession
+} from '$lib/server/auth/session';
+import { closeDb } from '$lib/server/db';
+import { loadDemoIfEmpty } from '$lib/server/demo';
+import { serverEnv } from '$lib/server/env';
+import { applyMigrations } from '$lib/server/migrate';
+
+export const init: ServerInit = async () => {
+	const env = serverEnv();
+	await applyMigrations();
+	if (env.CELLSITTER_DEMO && env.CELLSITTER_DEMO_PASSWORD) {
+		if (await loadDemoIfEmpty(env.CELLSITTER_DEMO_PASSWORD)) console.log('Loaded the demo workshop.');
+	}
+	process.once('sveltekit:shutdown', () => void closeDb());
+};
+
+const handleAuth: Handle = async ({ event, resolve }) => {
+	const sessionId = event.cookies.get(sessionCookieName);
+	event.locals.user = null;
+	event.locals.session = null;
+	if (sessionId) {
+		const { session, user } = await validateSession(sessionId);
+		if (session?.fresh) setSessionCookie(event.cookies, session, event.url);
+		if (!session) clearSessionCookie(event.cookies, event.url);
+		event.locals.user = user;
+		event.locals.session = session;
+	}
+	return resolve(event);
+};
+
+const handleSecurityHeaders: Handle = async ({ event, resolve }) => {
+	const response = await resolve(event);
+	response.headers.set('X-Content-Type-Options', 'nosniff');
+	response.headers.set('Referrer-Policy', 'same-origin');
+	response.headers.set('X-Frame-Options', 'DENY');
+	response.headers.set('Permissions-Policy', 'camera=(self), geolocation=(), microphone=()');
+	return response;
+};
+
+export const handle = sequence(handleAuth, handleSecurityHeaders);
+
+export const handleError: HandleServerError = ({ error, event, status, message }) => {
+	if (status === 404) return { message: 'Not found' };
+	const id = crypto.randomUUID().slice(0, 8);
+	console.error(`[${id}] ${event.request.method} ${event.url.pathname}`, error);
+	return { message: status >= 500 ? 'Something went wrong on our side.' : message, id };
+};

@@ -1,0 +1,86 @@
+import { z } from 'zod';
+import { roles } from '$lib/permissions';
+
+export function isTimeZone(value: string): boolean {
+	try {
+		new Intl.DateTimeFormat('en', { timeZone: value });
+		return true;
+	} catch {
+		return false;
+	}
+}
+
+const email = z
+	.string()
+	.trim()
+	.min(1, 'Enter your e-mail address.')
+	.max(254, 'That e-mail address is too long.')
+	.pipe(z.email('Enter a valid e-mail address, like name@example.com.'))
+	.transform((v) => v.toLowerCase());
+
+const newPassword = z
+	.string()
+	.min(10, 'Use at least 10 characters.')
+	.max(200, 'Use at most 200 characters.');
+
+const personName = z.string().trim().min(1, 'Enter your name.').max(100, 'Use at most 100 characters.');
+
+export const workshopName = z
+	.string()
+	.trim()
+	.min(1, 'Name the workshop.')
+	.max(80, 'Use at most 80 characters.');
+
+export const timeZone = z
+	.string()
+	.trim()
+	.min(1, 'Choose a time zone.')
+	.refine(isTimeZone, 'Choose a time zone from the list, like Europe/London.');
+
+export const signInSchema = z.object({
+	email,
+	password: z.string().min(1, 'Enter your password.').max(200, 'That password is too long.'),
+	next: z.string().default('')
+});
+
+export const signUpSchema = z.object({
+	name: personName,
+	email,
+	password: newPassword,
+	workshopName: workshopName.default('My workshop'),
+	timeZone: timeZone.default('UTC'),
+	invitation: z.string().default('')
+});
+
+export const oauthSignUpSchema = z.object({
+	name: personName,
+	workshopName: workshopName.default('My workshop'),
+	timeZone: timeZone.default('UTC'),
+	invitation: z.string().default('')
+});
+
+export const forgotSchema = z.object({ email });
+
+export const resetSchema = z
+	.object({ password: newPassword, confirm: z.string() })
+	.refine((v) => v.password === v.confirm, { message: 'The two passwords differ.', path: ['confirm'] });
+
+export const inviteSchema = z.object({
+	email,
+	role: z.enum(roles, 'Choose a role.')
+});
+
+export const roleChangeSchema = z.object({
+	userId: z.string().min(1),
+	role: z.enum(roles, 'Choose a role.')
+});
+
+export const memberSchema = z.object({ userId: z.string().min(1) });
+
+export const workshopSchema = z.object({ name: workshopName, timeZone });
+
+/** Where to go after signing in: only a path on this site. */
+export function safeNext(next: string | null | undefined, fallback = '/'): string {
+	if (!next || !next.startsWith('/') || next.startsWith('//') || next.startsWith('/\\')) return fallback;
+	return next;
+}

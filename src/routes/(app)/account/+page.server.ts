@@ -1,0 +1,50 @@
+import { redirect } from '@sveltejs/kit';
+import { listOAuthAccounts, unlinkOAuthAccount } from '$lib/server/accounts';
+import { requireUser } from '$lib/server/auth/permissions';
+import { configuredProviders } from '$lib/server/auth/oauth';
+import { fail, superValidate, zod4 } from '$lib/server/forms';
+import { createWorkshop, listWorkshopsOf } from '$lib/server/workshops';
+import { workshopSchema } from '$lib/schemas/auth';
+import type { Actions, PageServerLoad } from './$types';
+
+const linkErrors: Record<string, string> = {
+	'linked-elsewhere': 'That provider account is already linked to another Cellsitter account.',
+	'provider-already-linked': 'You already linked another account of that provider. Unlink it first.'
+};
+
+export const load: PageServerLoad = async ({ locals, url }) => {
+	const user = requireUser(locals, url);
+	const [workshops, linked, form] = await Promise.all([
+		listWorkshopsOf(user.id),
+		listOAuthAccounts(user.id),
+		superValidate({ timeZone: 'UTC' }, zod4(workshopSchema), { errors: false })
+	]);
+	const linkedIds = new Set(linked.map((l) => l.provider));
+	const providers = configuredProviders();
+	return {
+		user,
+		workshops,
+		linked: linked.map((l) => ({ ...l, name: providers.find((p) => p.id === l.provider)?.name ?? l.provider })),
+		linkable: providers.filter((p) => !linkedIds.has(p.id)),
+		form,
+		notice: url.searchParams.get('linked') ? 'Provider linked. You can now sign in with it.' : null,
+		problem: linkErrors[url.searchParams.get('link-error') ?? ''] ?? null
+	};
+};
+
+export const actions: Actions = {
+	createWorkshop: async ({ locals, url, request }) => {
+		const user = requireUser(locals, url);
+		const form = await superValidate(request, zod4(workshopSchema));
+		if (!form.valid) return fail(400, { form });
+		const workshop = await createWorkshop(user.id, form.data);
+		redirect(303, `/w/${workshop.slug}/packs`);
+	},
+	unlink: async ({ locals, url, request }) => {
+		const user = requireUser(locals, url);
+		const provider = String((await request.formData()).get('provider') ?? '');
+		const result = await unlinkOAuthAccount(user.id, provider);
+		if (!result.ok) return { unlinkError: 'Set a password first: it is your only way to sign in.' };
+		return {};
+	}
+};

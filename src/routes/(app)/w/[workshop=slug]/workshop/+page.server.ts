@@ -1,0 +1,30 @@
+import { can } from '$lib/permissions';
+import { requireMember, requireMemberWith } from '$lib/server/auth/permissions';
+import { fail, message, superValidate, zod4 } from '$lib/server/forms';
+import { listMembers, updateWorkshop } from '$lib/server/workshops';
+import { workshopSchema } from '$lib/schemas/auth';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async ({ locals, params, url }) => {
+	const member = await requireMemberWith(locals, params, url, 'workshop.view');
+	const [members, form] = await Promise.all([
+		can(member.role, 'members.view') ? listMembers(member) : Promise.resolve(null),
+		superValidate({ name: member.workshop.name, timeZone: member.workshop.timeZone }, zod4(workshopSchema))
+	]);
+	return {
+		members,
+		form,
+		canEdit: can(member.role, 'workshop.edit'),
+		canManage: can(member.role, 'members.manage')
+	};
+};
+
+export const actions: Actions = {
+	rename: async ({ locals, params, url, request }) => {
+		const member = await requireMember(locals, params, url);
+		const form = await superValidate(request, zod4(workshopSchema));
+		if (!form.valid) return fail(400, { form });
+		await updateWorkshop(member, form.data);
+		return message(form, 'Saved.');
+	}
+};

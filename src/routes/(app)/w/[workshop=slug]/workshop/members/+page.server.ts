@@ -1,0 +1,64 @@
+import { fail as kitFail } from '@sveltejs/kit';
+import { requireMemberWith } from '$lib/server/auth/permissions';
+import { fail, message, setError, superValidate, zod4 } from '$lib/server/forms';
+import {
+	changeRole,
+	inviteMember,
+	listMembers,
+	listOpenInvitations,
+	removeMember,
+	revokeInvitation
+} from '$lib/server/workshops';
+import { inviteSchema, memberSchema, roleChangeSchema } from '$lib/schemas/auth';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async ({ locals, params, url }) => {
+	const member = await requireMemberWith(locals, params, url, 'members.manage');
+	const [members, invitations, form] = await Promise.all([
+		listMembers(member),
+		listOpenInvitations(member),
+		superValidate({ role: 'technician' as const }, zod4(inviteSchema), { errors: false })
+	]);
+	return { members, invitations, form, me: member.user.id };
+};
+
+const refusals = {
+	'last-owner': 'A workshop needs at least one owner. Make someone else an owner first.',
+	'not-found': 'That person is no longer a member.'
+};
+
+export const actions: Actions = {
+	invite: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'members.manage');
+		const form = await superValidate(request, zod4(inviteSchema));
+		if (!form.valid) return fail(400, { form });
+		const result = await inviteMember(member, form.data, url.origin);
+		if (!result.ok) return setError(form, 'email', `${form.data.email} is already a member.`);
+		const text = result.mailed
+			? `Invitation sent to ${form.data.email}.`
+			: `We could not e-mail ${form.data.email}. Send them this link yourself: ${result.link}`;
+		return message(form, text);
+	},
+	changeRole: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'members.manage');
+		const parsed = roleChangeSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!parsed.success) return kitFail(400, { memberError: 'Choose a role.' });
+		const result = await changeRole(member, parsed.data.userId, parsed.data.role);
+		if (!result.ok) return kitFail(409, { memberError: refusals[result.reason] });
+		return { memberDone: 'Role changed.' };
+	},
+	remove: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'members.manage');
+		const parsed = memberSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!parsed.success) return kitFail(400, { memberError: 'Choose a member.' });
+		const result = await removeMember(member, parsed.data.userId);
+		if (!result.ok) return kitFail(409, { memberError: refusals[result.reason] });
+		return { memberDone: 'Member removed.' };
+	},
+	revoke: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'members.manage');
+		const id = String((await request.formData()).get('invitationId') ?? '');
+		await revokeInvitation(member, id);
+		return { memberDone: 'Invitation withdrawn.' };
+	}
+};
