@@ -1,0 +1,3 @@
+export * from './accounts';
+export * from './packs';
+export * from './chargers';
