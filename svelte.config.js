@@ -9,7 +9,8 @@ const config = {
 		runes: ({ filename }) => (filename.split(/[/\\]/).includes('node_modules') ? undefined : true)
 	},
 	kit: {
-		adapter: adapter({ out: 'build' }),
+		// The tests build elsewhere so they never pull files from under a running `npm start`.
+		adapter: adapter({ out: process.env.CELLSITTER_BUILD_DIR || 'build' }),
 		alias: { $tests: 'tests' }
 	}
 };
