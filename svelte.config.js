@@ -11,7 +11,14 @@ const config = {
 	kit: {
 		// The tests build elsewhere so they never pull files from under a running `npm start`.
 		adapter: adapter({ out: process.env.CELLSITTER_BUILD_DIR || 'build' }),
-		alias: { $tests: 'tests' }
+		alias: { $tests: 'tests' },
+		typescript: {
+			// Type-check against our declaration of the test-only `odex`, not its unstrict source.
+			config: (config) => {
+				config.compilerOptions.paths = { ...config.compilerOptions.paths, odex: ['../src/types/odex.d.ts'] };
+				return config;
+			}
+		}
 	}
 };
 

@@ -1,0 +1,56 @@
+// The charge engine's public API: plain TypeScript over plain data (see docs/engine.md).
+export type { Failure, Result } from './types';
+export {
+	chemistries,
+	cvTaperFactors,
+	familyOf,
+	isChemistryId,
+	resolveChemistry,
+	type Chemistry,
+	type ChemistryFamily,
+	type ChemistryId
+} from './chemistry';
+export { restVoltageFromSoc, socFromRestVoltage, type SocReading } from './soc';
+export {
+	chargeAmps,
+	endSocAtSetVolts,
+	estimateCharge,
+	type AmpsLimit,
+	type Channel,
+	type ChargeAmpsInput,
+	type ChargeEstimate,
+	type ChargeInput
+} from './charge';
+export { chargeEnvelope, fitCvTaperFactor, type EnvelopePoint } from './calibration';
+export { reestimate, type ChargePhase, type Reestimate, type ReestimateInput, type StepReading } from './reestimate';
+export { makespanLowerBound, scheduleLongestFirst, type LongestFirstSchedule } from './schedule';
+export { partitionEqualCount, type PartitionOutcome } from './partition';
+export type { HandsOnWindow, Plan, PlanGroup, PlanInputBase, PlanStep, PlanWarning } from './plan-common';
+export { planOneAtATime, type OneAtATimeInput } from './plan-one';
+export { planChannels, type ChannelsInput, type ChannelsPlan } from './plan-channels';
+export { PACK_STEP_ID, planBulk, type BulkInput, type BulkPlan, type GroupAtStop } from './plan-bulk';
+export { planBleed, type BleedInput, type BleedPlan, type BleedStep } from './plan-bleed';
+export {
+	checkClock,
+	defaultLimits,
+	evaluateReadings,
+	type AlertDraft,
+	type AlertKind,
+	type AlertSeverity,
+	type ClockInput,
+	type EvaluateInput,
+	type GroupReading,
+	type Limits
+} from './limits';
+export {
+	inspectCells,
+	matchCells,
+	type ArrivalCell,
+	type CellFlag,
+	type CellVerdict,
+	type InspectOptions,
+	type Match,
+	type MatchedGroup,
+	type MatchInputCell
+} from './cells';
+export { packRatings, type PackCell, type PackRatings } from './pack';
