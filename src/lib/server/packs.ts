@@ -1,10 +1,14 @@
-/** Packs of a workshop: who may see which, and the pack's own record. */
+/** Packs of a workshop: who may see which, the pack's record, its groups and ratings. */
 import { error } from '@sveltejs/kit';
-import { and, eq } from 'drizzle-orm';
+import { and, asc, count, eq, sql } from 'drizzle-orm';
+import { packRatings, type PackRatings } from '$lib/engine';
 import { can } from '$lib/permissions';
+import type { PackInput } from '$lib/schemas/packs';
 import { requirePermission, type Member } from './auth/permissions';
-import { db } from './db';
-import { packs, type Pack } from './db/schema';
+import { getCellSpec, type CellSpecWithChemistry } from './cell-specs';
+import { db, type Tx } from './db';
+import { cells, cellSpecs, memberships, packGroups, packs, users, type Pack } from './db/schema';
+import { newId } from './ids';
 
 /** True when the member may see this pack: every role but viewer sees all; a viewer only their own. */
 export function canSeePack(member: Member, pack: Pick<Pack, 'workshopId' | 'packOwnerId'>): boolean {
@@ -23,3 +27,211 @@ export async function requirePack(member: Member, packId: string): Promise<Pack>
 	if (!pack || !canSeePack(member, pack)) error(404, 'Not found');
 	return pack;
 }
+
+export type PackSummary = {
+	id: string;
+	name: string;
+	series: number;
+	parallel: number;
+	status: Pack['status'];
+	specName: string;
+	ownerName: string | null;
+	cellCount: number;
+	placedCount: number;
+	updatedAt: Date;
+};
+
+/** The packs the member may see, by name, with cell counts (one query). */
+export async function listPacks(member: Member): Promise<PackSummary[]> {
+	requirePermission(member, 'packs.viewOwn');
+	const visible = can(member.role, 'packs.viewAll')
+		? eq(packs.workshopId, member.workshop.id)
+		: and(eq(packs.workshopId, member.workshop.id), eq(packs.packOwnerId, member.user.id));
+	return db
+		.select({
+			id: packs.id,
+			name: packs.name,
+			series: packs.series,
+			parallel: packs.parallel,
+			status: packs.status,
+			specName: cellSpecs.name,
+			ownerName: users.name,
+			cellCount: count(cells.id),
+			placedCount: sql<number>`count(${cells.id}) filter (where ${cells.placement} = 'group')`.mapWith(Number),
+			updatedAt: packs.updatedAt
+		})
+		.from(packs)
+		.innerJoin(cellSpecs, eq(cellSpecs.id, packs.cellSpecId))
+		.leftJoin(users, eq(users.id, packs.packOwnerId))
+		.leftJoin(cells, eq(cells.packId, packs.id))
+		.where(visible)
+		.groupBy(packs.id, cellSpecs.name, users.name)
+		.orderBy(asc(packs.name));
+}
+
+export type PackWriteResult =
+	| { ok: true; pack: Pack; clearedAssignment: boolean }
+	| { ok: false; reason: 'unknown-spec' | 'owner-not-member'; field: 'cellSpecId' | 'packOwnerId'; message: string };
+
+async function isMemberOf(tx: Tx | typeof db, workshopId: string, userId: string) {
+	const [row] = await tx
+		.select({ userId: memberships.userId })
+		.from(memberships)
+		.where(and(eq(memberships.workshopId, workshopId), eq(memberships.userId, userId)));
+	return Boolean(row);
+}
+
+async function checkRefs(member: Member, input: Partial<PackInput>): Promise<PackWriteResult | null> {
+	if (input.cellSpecId) {
+		const [spec] = await db
+			.select({ id: cellSpecs.id })
+			.from(cellSpecs)
+			.where(and(eq(cellSpecs.id, input.cellSpecId), eq(cellSpecs.workshopId, member.workshop.id)));
+		if (!spec) return { ok: false, reason: 'unknown-spec', field: 'cellSpecId', message: 'Choose a cell spec of this workshop.' };
+	}
+	if (input.packOwnerId && !(await isMemberOf(db, member.workshop.id, input.packOwnerId))) {
+		return { ok: false, reason: 'owner-not-member', field: 'packOwnerId', message: 'The pack owner must be a member of this workshop.' };
+	}
+	return null;
+}
+
+function columns(input: Partial<PackInput>) {
+	const { packOwnerId, bmsFitted, bmsBalanceAmps, ...rest } = input;
+	return {
+		...rest,
+		...(packOwnerId !== undefined ? { packOwnerId: packOwnerId || null } : {}),
+		...(bmsFitted !== undefined ? { bmsFitted } : {}),
+		// A balance current only means something with a BMS fitted.
+		...(bmsBalanceAmps !== undefined || bmsFitted === false
+			? { bmsBalanceAmps: bmsFitted === false ? null : (bmsBalanceAmps ?? null) }
+			: {})
+	};
+}
+
+/** A new pack with its groups 1..S, in one transaction. */
+export async function createPack(member: Member, input: PackInput): Promise<PackWriteResult> {
+	requirePermission(member, 'packs.edit');
+	const refused = await checkRefs(member, input);
+	if (refused) return refused;
+	const pack = await db.transaction(async (tx) => {
+		const [pack] = await tx
+			.insert(packs)
+			.values({
+				id: newId(),
+				workshopId: member.workshop.id,
+				...columns(input),
+				name: input.name,
+				cellSpecId: input.cellSpecId,
+				series: input.series,
+				parallel: input.parallel,
+				createdBy: member.user.id,
+				updatedBy: member.user.id
+			} as typeof packs.$inferInsert)
+			.returning();
+		await tx.insert(packGroups).values(
+			Array.from({ length: input.series }, (_, i) => ({ id: newId(), packId: pack.id, index: i + 1 }))
+		);
+		return pack;
+	});
+	return { ok: true, pack, clearedAssignment: false };
+}
+
+/**
+ * Changes a pack. A new topology or cell spec clears the matching (the cells go back to unsorted)
+ * and adds or removes groups — all in one transaction.
+ */
+export async function updatePack(member: Member, packId: string, input: Partial<PackInput>): Promise<PackWriteResult> {
+	requirePermission(member, 'packs.edit');
+	const current = await requirePack(member, packId);
+	const refused = await checkRefs(member, input);
+	if (refused) return refused;
+	const series = input.series ?? current.series;
+	const topologyChanged =
+		series !== current.series ||
+		(input.parallel ?? current.parallel) !== current.parallel ||
+		(input.cellSpecId ?? current.cellSpecId) !== current.cellSpecId;
+
+	return db.transaction(async (tx) => {
+		let clearedAssignment = false;
+		if (topologyChanged) {
+			const cleared = await tx
+				.update(cells)
+				.set({ placement: 'unsorted', groupId: null, updatedBy: member.user.id, updatedAt: new Date() })
+				.where(and(eq(cells.packId, packId), eq(cells.placement, 'group')))
+				.returning({ id: cells.id });
+			clearedAssignment = cleared.length > 0;
+			if (series > current.series) {
+				await tx.insert(packGroups).values(
+					Array.from({ length: series - current.series }, (_, i) => ({
+						id: newId(),
+						packId,
+						index: current.series + i + 1
+					}))
+				);
+			} else if (series < current.series) {
+				await tx.delete(packGroups).where(and(eq(packGroups.packId, packId), sql`${packGroups.index} > ${series}`));
+			}
+		}
+		const [pack] = await tx
+			.update(packs)
+			.set({ ...columns(input), updatedBy: member.user.id, updatedAt: new Date() })
+			.where(eq(packs.id, packId))
+			.returning();
+		return { ok: true as const, pack, clearedAssignment };
+	});
+}
+
+export type PackView = {
+	pack: Pack;
+	spec: CellSpecWithChemistry;
+	ownerName: string | null;
+	ratings: PackRatings | null;
+	ratingsProblem: string | null;
+};
+
+/** A pack with its spec, chemistry and ratings from the engine. */
+export async function getPackView(member: Member, packId: string): Promise<PackView> {
+	const pack = await requirePack(member, packId);
+	const [spec, owner] = await Promise.all([
+		getCellSpec(member, pack.cellSpecId),
+		pack.packOwnerId
+			? db.select({ name: users.name }).from(users).where(eq(users.id, pack.packOwnerId))
+			: Promise.resolve([])
+	]);
+	const rated = packRatings({
+		chemistry: spec.chemistry,
+		cell: {
+			capacityAh: spec.capacityAh,
+			maxContinuousAmps: spec.maxContinuousAmps,
+			maxBurstAmps: spec.maxBurstAmps ?? undefined,
+			maxChargeAmps: spec.maxChargeAmps,
+			resistanceMilliOhms: spec.resistanceMilliOhms ?? undefined
+		},
+		series: pack.series,
+		parallel: pack.parallel,
+		measuredPeakAmps: pack.measuredPeakAmps ?? undefined
+	});
+	return {
+		pack,
+		spec,
+		ownerName: owner[0]?.name ?? null,
+		ratings: rated.ok ? rated : null,
+		ratingsProblem: rated.ok ? null : (rated.detail ?? rated.reason)
+	};
+}
+
+/** The pack's groups 1..S with their ids. */
+export async function listGroups(packId: string) {
+	return db.select().from(packGroups).where(eq(packGroups.packId, packId)).orderBy(asc(packGroups.index));
+}
+
+/** Members who may be named as a pack's owner. */
+export async function packOwnerChoices(member: Member) {
+	return db
+		.select({ userId: users.id, name: users.name, role: memberships.role })
+		.from(memberships)
+		.innerJoin(users, eq(users.id, memberships.userId))
+		.where(eq(memberships.workshopId, member.workshop.id))
+		.orderBy(asc(users.name));
+}
+

@@ -4,10 +4,12 @@
  */
 import { count } from 'drizzle-orm';
 import type { Role } from '$lib/permissions';
-import { db } from './db';
-import { memberships, users, workshops } from './db/schema';
-import { hashPassword } from './auth/passwords';
-import { newId } from './ids';
+import { db } from '../db';
+import { memberships, users, workshops } from '../db/schema';
+import { hashPassword } from '../auth/passwords';
+import { newId } from '../ids';
+import { loadDemoChargers } from './chargers';
+import { loadDemoPacks } from './packs';
 
 export const demoWorkshop = { name: 'Larkfield Battery Bench', slug: 'larkfield', timeZone: 'Europe/London' };
 
@@ -26,11 +28,11 @@ export async function loadDemoIfEmpty(password: string): Promise<boolean> {
 	await db.transaction(async (tx) => {
 		const workshopId = newId();
 		await tx.insert(workshops).values({ id: workshopId, ...demoWorkshop });
-		for (const person of demoPeople) {
-			const userId = newId();
-			await tx.insert(users).values({ id: userId, email: person.email, name: person.name, passwordHash });
-			await tx.insert(memberships).values({ workshopId, userId, role: person.role });
-		}
+		const ids = Object.fromEntries(demoPeople.map((p) => [p.role, newId()])) as Record<Role, string>;
+		await tx.insert(users).values(demoPeople.map((p) => ({ id: ids[p.role], email: p.email, name: p.name, passwordHash })));
+		await tx.insert(memberships).values(demoPeople.map((p) => ({ workshopId, userId: ids[p.role], role: p.role })));
+		await loadDemoPacks(tx, workshopId, ids);
+		await loadDemoChargers(tx, workshopId, ids.builder);
 	});
 	return true;
 }

@@ -1,0 +1,94 @@
+import { z } from 'zod';
+
+/**
+ * Ranges of one arrival measurement. They mirror the check constraints on the cells table, so
+ * anything that passes here is accepted by the database.
+ */
+export const CELL_LIMITS = {
+	labelMaxChars: 60,
+	voltsMin: 0,
+	voltsMax: 5,
+	resistanceMaxMilliOhms: 10_000,
+	capacityMaxAh: 2_000
+} as const;
+
+/**
+ * The key under which two labels count as the same cell. Case-insensitive: "C1" and "c1" on one
+ * bench are almost always the same cell typed twice.
+ */
+export function cellLabelKey(label: string): string {
+	return label.trim().toLowerCase();
+}
+
+/** Most cells one upload or one batch request may carry. */
+export const CELL_BATCH_MAX_CELLS = 20_000;
+
+const label = z
+	.string()
+	.trim()
+	.min(1, 'Give the cell a label.')
+	.max(CELL_LIMITS.labelMaxChars, `Use at most ${CELL_LIMITS.labelMaxChars} characters for a label.`);
+
+const volts = z
+	.number({ error: 'Volts must be a number.' })
+	.min(CELL_LIMITS.voltsMin, `Volts must be between ${CELL_LIMITS.voltsMin} and ${CELL_LIMITS.voltsMax}.`)
+	.max(CELL_LIMITS.voltsMax, `Volts must be between ${CELL_LIMITS.voltsMin} and ${CELL_LIMITS.voltsMax}.`);
+
+const resistanceMilliOhms = z
+	.number({ error: 'Resistance must be a number of milliohms.' })
+	.gt(0, 'Resistance must be above 0 mΩ.')
+	.max(CELL_LIMITS.resistanceMaxMilliOhms, `Resistance must be at most ${CELL_LIMITS.resistanceMaxMilliOhms} mΩ.`)
+	.nullable();
+
+const capacityAh = z
+	.number({ error: 'Capacity must be a number of amp-hours.' })
+	.gt(0, 'Capacity must be above 0 Ah.')
+	.max(CELL_LIMITS.capacityMaxAh, `Capacity must be at most ${CELL_LIMITS.capacityMaxAh} Ah.`)
+	.nullable();
+
+/** One cell's arrival measurement as the JSON API receives it; an unmeasured value is null (or left out). */
+export const cellRowSchema = z.object({
+	label,
+	volts,
+	resistanceMilliOhms: resistanceMilliOhms.default(null),
+	capacityAh: capacityAh.default(null)
+});
+
+export type CellRow = z.output<typeof cellRowSchema>;
+
+/** A batch of new cells for one pack: all are imported or none, so labels must differ within it. */
+export const cellBatchSchema = z
+	.object({
+		cells: z
+			.array(cellRowSchema)
+			.min(1, 'Send at least one cell.')
+			.max(CELL_BATCH_MAX_CELLS, `Send at most ${CELL_BATCH_MAX_CELLS} cells at a time.`)
+	})
+	.superRefine(({ cells }, ctx) => {
+		const firstIndex = new Map<string, number>();
+		cells.forEach((cell, index) => {
+			const key = cellLabelKey(cell.label);
+			const first = firstIndex.get(key);
+			if (first === undefined) firstIndex.set(key, index);
+			else
+				ctx.addIssue({
+					code: 'custom',
+					path: ['cells', index, 'label'],
+					message: `The label "${cell.label}" is also used by cell ${first + 1}; each cell needs its own label.`
+				});
+		});
+	});
+
+export type CellBatch = z.output<typeof cellBatchSchema>;
+
+/** An inline correction of one cell: only the fields sent change; null clears an optional measurement. */
+export const cellCorrectionSchema = z
+	.object({
+		label: label.optional(),
+		volts: volts.optional(),
+		resistanceMilliOhms: resistanceMilliOhms.optional(),
+		capacityAh: capacityAh.optional()
+	})
+	.refine((c) => Object.values(c).some((v) => v !== undefined), 'Change at least one measurement.');
+
+export type CellCorrection = z.output<typeof cellCorrectionSchema>;

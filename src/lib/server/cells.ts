@@ -1,0 +1,164 @@
+/**
+ * A pack's batch of cells: arrival measurements (typed or from CSV), corrections, and the verdicts
+ * of the engine's inspection — computed whenever the batch is read, so they are never stale.
+ */
+import { error } from '@sveltejs/kit';
+import { and, asc, eq } from 'drizzle-orm';
+import { inspectCells, type CellVerdict } from '$lib/engine';
+import { parseCellCsv, type CellRow, type RowError } from '$lib/cells-csv';
+import { cellLabelKey } from '$lib/schemas/cells';
+import { requirePermission, type Member } from './auth/permissions';
+import type { CellSpecWithChemistry } from './cell-specs';
+import { getCellSpec } from './cell-specs';
+import { db, sqlClient } from './db';
+import { cells, packGroups, type Cell } from './db/schema';
+import { newId } from './ids';
+import { requirePack } from './packs';
+
+export type InspectedCell = Cell & {
+	groupIndex: number | null;
+	verdict: CellVerdict['verdict'];
+	flags: CellVerdict['flags'];
+};
+
+export type Batch = { spec: CellSpecWithChemistry; cells: InspectedCell[] };
+
+/** Runs the engine's inspection over the whole batch. */
+export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupIndex: number | null })[]): InspectedCell[] {
+	const verdicts = inspectCells(
+		spec.chemistry,
+		rows.map((c) => ({
+			id: c.id,
+			volts: c.arrivalVolts,
+			resistanceMilliOhms: c.resistanceMilliOhms ?? undefined,
+			capacityAh: c.capacityAh ?? undefined
+		}))
+	);
+	if (!Array.isArray(verdicts)) throw new Error(`inspection failed: ${verdicts.reason}`);
+	const byId = new Map(verdicts.map((v) => [v.id, v]));
+	return rows.map((c) => ({ ...c, verdict: byId.get(c.id)!.verdict, flags: byId.get(c.id)!.flags }));
+}
+
+/** The pack's cells with their group and inspection verdict, by label. */
+export async function listBatch(member: Member, packId: string): Promise<Batch> {
+	const pack = await requirePack(member, packId);
+	const [spec, rows] = await Promise.all([
+		getCellSpec(member, pack.cellSpecId),
+		db
+			.select({ cell: cells, groupIndex: packGroups.index })
+			.from(cells)
+			.leftJoin(packGroups, eq(packGroups.id, cells.groupId))
+			.where(eq(cells.packId, packId))
+			.orderBy(asc(cells.label))
+	]);
+	return { spec, cells: inspectBatch(spec, rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }))) };
+}
+
+export type AddCellsResult =
+	| { ok: true; imported: number }
+	| { ok: false; errors: RowError[]; message: string };
+
+/**
+ * Adds measured cells to the batch, all or nothing. `rowOf` maps a cell's position to the row
+ * number shown to the person (a CSV's line, or the entry row).
+ */
+export async function addCells(
+	member: Member,
+	packId: string,
+	rows: CellRow[],
+	rowOf: (i: number) => number = (i) => i + 1
+): Promise<AddCellsResult> {
+	requirePermission(member, 'measurements.edit');
+	await requirePack(member, packId);
+	if (rows.length === 0) return { ok: false, errors: [], message: 'There are no cells to add.' };
+
+	// Labels count as the same regardless of case, as in the CSV check (cellLabelKey).
+	const existing = new Set(
+		(await db.select({ label: cells.label }).from(cells).where(eq(cells.packId, packId))).map((r) =>
+			cellLabelKey(r.label)
+		)
+	);
+	const errors: RowError[] = rows.flatMap((r, i) =>
+		existing.has(cellLabelKey(r.label))
+			? [{ row: rowOf(i), field: 'label', message: `row ${rowOf(i)}: a cell labelled “${r.label}” is already in this batch` }]
+			: []
+	);
+	if (errors.length) return { ok: false, errors, message: 'Nothing was imported: some labels are already in the batch.' };
+
+	// One statement over unnest()ed columns: atomic, and fast for 10,000 rows (a drizzle
+	// multi-row insert of that size spends seconds building the query).
+	// drizzle sets postgres.js to pass timestamps as text.
+	const now = new Date().toISOString();
+	const by = member.user.id;
+	await sqlClient()`
+		insert into cells (id, pack_id, label, arrival_volts, resistance_milliohms, capacity_ah,
+			created_by, updated_by, created_at, updated_at)
+		select t.id, ${packId}, t.label, t.volts, t.r, t.c, ${by}, ${by}, ${now}::timestamptz, ${now}::timestamptz
+		from unnest(
+			${rows.map(() => newId())}::text[],
+			${rows.map((r) => r.label)}::text[],
+			${rows.map((r) => r.volts)}::float8[],
+			${rows.map((r) => r.resistanceMilliOhms)}::float8[],
+			${rows.map((r) => r.capacityAh)}::float8[]
+		) as t(id, label, volts, r, c)`;
+	return { ok: true, imported: rows.length };
+}
+
+/** Imports a CSV of arrival measurements: every row valid, or nothing written. */
+export async function importCellCsv(member: Member, packId: string, csv: string): Promise<AddCellsResult> {
+	requirePermission(member, 'measurements.edit');
+	const parsed = parseCellCsv(csv);
+	if (!parsed.ok) {
+		const n = parsed.errors.length;
+		return {
+			ok: false,
+			errors: parsed.errors,
+			message: `Nothing was imported: ${n} problem${n === 1 ? '' : 's'} in the file.`
+		};
+	}
+	// Data rows start on line 2, under the header.
+	return addCells(member, packId, parsed.rows, (i) => i + 2);
+}
+
+export type CellCorrection = Partial<Pick<CellRow, 'label' | 'volts' | 'resistanceMilliOhms' | 'capacityAh'>>;
+
+/** Corrects one cell's measurements (technicians may; the topology stays as it is). */
+export async function correctCell(
+	member: Member,
+	packId: string,
+	cellId: string,
+	patch: CellCorrection
+): Promise<{ ok: true; cell: Cell } | { ok: false; field: 'label'; message: string }> {
+	requirePermission(member, 'measurements.edit');
+	await requirePack(member, packId);
+	const set = {
+		...(patch.label !== undefined ? { label: patch.label } : {}),
+		...(patch.volts !== undefined ? { arrivalVolts: patch.volts } : {}),
+		...(patch.resistanceMilliOhms !== undefined ? { resistanceMilliOhms: patch.resistanceMilliOhms } : {}),
+		...(patch.capacityAh !== undefined ? { capacityAh: patch.capacityAh } : {}),
+		updatedBy: member.user.id,
+		updatedAt: new Date()
+	};
+	try {
+		const [cell] = await db
+			.update(cells)
+			.set(set)
+			.where(and(eq(cells.id, cellId), eq(cells.packId, packId)))
+			.returning();
+		if (!cell) error(404, 'Not found');
+		return { ok: true, cell };
+	} catch (e) {
+		if ((e as { cause?: { code?: string } }).cause?.code === '23505') {
+			return { ok: false, field: 'label', message: `Another cell in this batch is labelled “${patch.label}”.` };
+		}
+		throw e;
+	}
+}
+
+/** Removes a cell from the batch (a measurement entered by mistake). */
+export async function removeCell(member: Member, packId: string, cellId: string): Promise<void> {
+	requirePermission(member, 'measurements.edit');
+	await requirePack(member, packId);
+	const removed = await db.delete(cells).where(and(eq(cells.id, cellId), eq(cells.packId, packId))).returning({ id: cells.id });
+	if (!removed.length) error(404, 'Not found');
+}

@@ -1,0 +1,26 @@
+import { json } from '@sveltejs/kit';
+import { readJson, problem } from '$lib/server/api';
+import { requireMemberWith } from '$lib/server/auth/permissions';
+import { acceptMatching, proposeMatching } from '$lib/server/matching';
+import { matchingAcceptSchema, matchingProposalSchema } from '$lib/schemas/packs';
+import type { RequestHandler } from './$types';
+
+/** Proposes a matching (nothing is saved). */
+export const POST: RequestHandler = async ({ locals, params, url, request }) => {
+	const member = await requireMemberWith(locals, params, url, 'packs.edit');
+	const input = await readJson(request, matchingProposalSchema);
+	if (input instanceof Response) return input;
+	const proposal = await proposeMatching(member, params.packId, input);
+	if (!proposal.ok) return problem(409, { message: proposal.message });
+	return json(proposal);
+};
+
+/** Accepts an assignment (cell ids per group), in one transaction. */
+export const PUT: RequestHandler = async ({ locals, params, url, request }) => {
+	const member = await requireMemberWith(locals, params, url, 'packs.edit');
+	const input = await readJson(request, matchingAcceptSchema);
+	if (input instanceof Response) return input;
+	const result = await acceptMatching(member, params.packId, input);
+	if (!result.ok) return problem(result.reason === 'would-replace' ? 409 : 400, { message: result.message });
+	return json(result);
+};
