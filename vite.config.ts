@@ -5,6 +5,8 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
 	plugins: [tailwindcss(), sveltekit()],
 	server: { host: '127.0.0.1', port: 5173, strictPort: false },
+	// The bundler's "plugins took long" notes say only that this machine has two cores.
+	build: { rolldownOptions: { checks: { bundlerTimings: false } } },
 	test: {
 		projects: [
 			{

@@ -79,7 +79,7 @@ main() {
 
 	printf '\nCellsitter is running at %s\n' "$APP_URL"
 	print_demo_sign_ins "$password"
-	printf '\nMail sent by the app is kept by the local fake mail server (see the mailbox page in the app).\n'
+	printf '\nMail sent by the app (invitations, password resets) lands in the local mailbox: %s/fakes/mailbox\n' "$APP_URL"
 	printf 'Press Ctrl-C to stop. The database keeps running; npm run db:stop stops it.\n\n'
 
 	local status=0

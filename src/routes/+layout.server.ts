@@ -1,3 +1,4 @@
+import { fakesEnabled } from '$lib/server/fakes';
 import type { LayoutServerLoad } from './$types';
 
-export const load: LayoutServerLoad = ({ locals }) => ({ user: locals.user });
+export const load: LayoutServerLoad = ({ locals }) => ({ user: locals.user, fakes: fakesEnabled() });

@@ -1,7 +1,8 @@
 /** Packs of a workshop: who may see which, the pack's record, its groups and ratings. */
 import { error } from '@sveltejs/kit';
 import { and, asc, count, eq, sql } from 'drizzle-orm';
-import { packRatings, type PackRatings } from '$lib/engine';
+import type { PackRatings } from '$lib/engine';
+import { rateSpecPack } from '$lib/pack-ratings';
 import { can } from '$lib/permissions';
 import type { PackInput } from '$lib/schemas/packs';
 import { requirePermission, type Member } from './auth/permissions';
@@ -198,19 +199,7 @@ export async function getPackView(member: Member, packId: string): Promise<PackV
 			? db.select({ name: users.name }).from(users).where(eq(users.id, pack.packOwnerId))
 			: Promise.resolve([])
 	]);
-	const rated = packRatings({
-		chemistry: spec.chemistry,
-		cell: {
-			capacityAh: spec.capacityAh,
-			maxContinuousAmps: spec.maxContinuousAmps,
-			maxBurstAmps: spec.maxBurstAmps ?? undefined,
-			maxChargeAmps: spec.maxChargeAmps,
-			resistanceMilliOhms: spec.resistanceMilliOhms ?? undefined
-		},
-		series: pack.series,
-		parallel: pack.parallel,
-		measuredPeakAmps: pack.measuredPeakAmps ?? undefined
-	});
+	const rated = rateSpecPack(spec, pack);
 	return {
 		pack,
 		spec,
