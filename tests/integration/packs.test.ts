@@ -2,7 +2,7 @@ import { and, eq } from 'drizzle-orm';
 import { describe, expect, it } from 'vitest';
 import { db } from '$lib/server/db';
 import { cells, packGroups } from '$lib/server/db/schema';
-import { addCells, correctCell, importCellCsv, listBatch } from '$lib/server/cells';
+import { addCells, correctCell, importCellCsv, listBatch, removeCell } from '$lib/server/cells';
 import { acceptMatching, proposeMatching } from '$lib/server/matching';
 import { createPack, listPacks, requirePack, updatePack } from '$lib/server/packs';
 import { joinAs, packFixture } from './helpers';
@@ -188,5 +188,24 @@ describe('roles and workshops', () => {
 		const indexes = (await db.select({ i: packGroups.index }).from(packGroups).where(eq(packGroups.packId, pack.id))).map((r) => r.i).sort();
 		expect(indexes).toEqual([1, 2, 3]);
 		expect(await db.$count(cells, and(eq(cells.packId, pack.id), eq(cells.placement, 'group')))).toBe(0);
+	});
+});
+
+describe('removing a cell entered by mistake', () => {
+	it('removes a loose cell, keeps one that sits in a group, and never reaches another workshop', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		await importCellCsv(owner, pack.id, 'label,volts,capacity_ah\nA,3.6,4\nB,3.6,4.1\n');
+		const proposal = await proposeMatching(owner, pack.id, { includeSuspect: false });
+		if (!proposal.ok) throw new Error(proposal.message);
+		await acceptMatching(owner, pack.id, { groups: proposal.groups.map((g) => g.cellIds), replace: false });
+		const batch = (await listBatch(owner, pack.id)).cells;
+		const placed = batch.find((c) => c.placement === 'group')!;
+		const spare = batch.find((c) => c.placement === 'spare')!;
+
+		expect(await removeCell(owner, pack.id, placed.id)).toMatchObject({ ok: false, reason: 'in-group' });
+		const stranger = await packFixture({ series: 1, parallel: 1 });
+		await expect(removeCell(stranger.owner, pack.id, spare.id)).rejects.toMatchObject({ status: 404 });
+		expect(await removeCell(owner, pack.id, spare.id)).toEqual({ ok: true });
+		expect((await listBatch(owner, pack.id)).cells.map((c) => c.id)).toEqual([placed.id]);
 	});
 });

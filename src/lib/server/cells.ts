@@ -3,7 +3,7 @@
  * of the engine's inspection — computed whenever the batch is read, so they are never stale.
  */
 import { error } from '@sveltejs/kit';
-import { and, asc, eq } from 'drizzle-orm';
+import { and, asc, eq, ne } from 'drizzle-orm';
 import { inspectCells, type CellVerdict } from '$lib/engine';
 import { parseCellCsv, type CellRow, type RowError } from '$lib/cells-csv';
 import { cellLabelKey } from '$lib/schemas/cells';
@@ -155,10 +155,20 @@ export async function correctCell(
 	}
 }
 
-/** Removes a cell from the batch (a measurement entered by mistake). */
-export async function removeCell(member: Member, packId: string, cellId: string): Promise<void> {
+/** Removes a cell entered by mistake; a cell placed in a group stays until the matching changes. */
+export async function removeCell(
+	member: Member,
+	packId: string,
+	cellId: string
+): Promise<{ ok: true } | { ok: false; reason: 'in-group'; message: string }> {
 	requirePermission(member, 'measurements.edit');
 	await requirePack(member, packId);
-	const removed = await db.delete(cells).where(and(eq(cells.id, cellId), eq(cells.packId, packId))).returning({ id: cells.id });
-	if (!removed.length) error(404, 'Not found');
+	const removed = await db
+		.delete(cells)
+		.where(and(eq(cells.id, cellId), eq(cells.packId, packId), ne(cells.placement, 'group')))
+		.returning({ id: cells.id });
+	if (removed.length) return { ok: true };
+	const [still] = await db.select({ label: cells.label }).from(cells).where(and(eq(cells.id, cellId), eq(cells.packId, packId)));
+	if (!still) error(404, 'Not found');
+	return { ok: false, reason: 'in-group', message: `${still.label} is in a group. Match the pack again without it first.` };
 }

@@ -1,6 +1,6 @@
 /** Packs of a workshop: who may see which, the pack's record, its groups and ratings. */
 import { error } from '@sveltejs/kit';
-import { and, asc, count, eq, sql } from 'drizzle-orm';
+import { and, asc, count, eq, inArray, sql } from 'drizzle-orm';
 import type { PackRatings } from '$lib/engine';
 import { rateSpecPack } from '$lib/pack-ratings';
 import { can } from '$lib/permissions';
@@ -186,6 +186,7 @@ export type PackView = {
 	pack: Pack;
 	spec: CellSpecWithChemistry;
 	ownerName: string | null;
+	updatedByName: string | null;
 	ratings: PackRatings | null;
 	ratingsProblem: string | null;
 };
@@ -193,17 +194,20 @@ export type PackView = {
 /** A pack with its spec, chemistry and ratings from the engine. */
 export async function getPackView(member: Member, packId: string): Promise<PackView> {
 	const pack = await requirePack(member, packId);
-	const [spec, owner] = await Promise.all([
+	const people = [pack.packOwnerId, pack.updatedBy].filter((id): id is string => Boolean(id));
+	const [spec, named] = await Promise.all([
 		getCellSpec(member, pack.cellSpecId),
-		pack.packOwnerId
-			? db.select({ name: users.name }).from(users).where(eq(users.id, pack.packOwnerId))
+		people.length
+			? db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people))
 			: Promise.resolve([])
 	]);
+	const nameOf = (id: string | null) => named.find((u) => u.id === id)?.name ?? null;
 	const rated = rateSpecPack(spec, pack);
 	return {
 		pack,
 		spec,
-		ownerName: owner[0]?.name ?? null,
+		ownerName: nameOf(pack.packOwnerId),
+		updatedByName: nameOf(pack.updatedBy),
 		ratings: rated.ok ? rated : null,
 		ratingsProblem: rated.ok ? null : (rated.detail ?? rated.reason)
 	};

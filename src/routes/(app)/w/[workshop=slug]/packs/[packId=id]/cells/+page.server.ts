@@ -1,7 +1,7 @@
 import { fail } from '@sveltejs/kit';
 import { can } from '$lib/permissions';
 import { requireMemberWith } from '$lib/server/auth/permissions';
-import { addCells, correctCell, importCellCsv, listBatch } from '$lib/server/cells';
+import { addCells, correctCell, importCellCsv, listBatch, removeCell } from '$lib/server/cells';
 import { requirePack } from '$lib/server/packs';
 import { cellBatchSchema, cellCorrectionSchema } from '$lib/schemas/cells';
 import { parseDecimal } from '$lib/cells-csv';
@@ -73,5 +73,11 @@ export const actions: Actions = {
 		const result = await correctCell(member, params.packId, String(form.get('cellId') ?? ''), parsed.data);
 		if (!result.ok) return fail(400, { correctProblem: result.message });
 		return { correctDone: `${result.cell.label} corrected.` };
+	},
+	remove: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
+		const result = await removeCell(member, params.packId, String((await request.formData()).get('cellId') ?? ''));
+		if (!result.ok) return fail(409, { correctProblem: result.message });
+		return { correctDone: 'Cell removed from the batch.' };
 	}
 };
