@@ -265,7 +265,7 @@ describe('the chargers endpoint', () => {
 	});
 
 	it('answers 401 without a session, 403 to a viewer or a technician posting, 404 to a stranger', async () => {
-		expect((await api.GET(event(owner, null))).status).toBe(401);
+		await expect(api.GET(event(owner, null))).rejects.toMatchObject({ status: 401 });
 		const viewer = await joinAs(owner, 'viewer');
 		await expect(api.GET(event(owner, viewer))).rejects.toMatchObject({ status: 403 });
 		const tech = await joinAs(owner, 'technician');

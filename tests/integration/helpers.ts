@@ -90,3 +90,23 @@ export async function packFixture(opts: { series: number; parallel: number; chem
 	if (!pack.ok) throw new Error(pack.message);
 	return { owner: member, pack: pack.pack, spec: spec.spec };
 }
+
+/** A request event for calling an API route's handler directly, as `who` (null: signed out). */
+export function apiEvent<E>(
+	who: Member | null,
+	path: string,
+	params: Record<string, string>,
+	init: { method?: string; body?: unknown } = {}
+): E {
+	const url = new URL(`http://127.0.0.1${path}`);
+	return {
+		locals: { user: who?.user ?? null, session: null },
+		params,
+		url,
+		request: new Request(url, {
+			method: init.method ?? 'GET',
+			body: init.body === undefined ? undefined : typeof init.body === 'string' ? init.body : JSON.stringify(init.body),
+			headers: init.body === undefined ? undefined : { 'content-type': 'application/json' }
+		})
+	} as unknown as E;
+}

@@ -1,19 +1,20 @@
 import { json } from '@sveltejs/kit';
-import { readJson, problem } from '$lib/server/api';
-import { requireMemberWith } from '$lib/server/auth/permissions';
+import { problem, readJson, requireApiMember } from '$lib/server/api';
 import { getPackView, updatePack } from '$lib/server/packs';
 import { packPatchSchema } from '$lib/schemas/packs';
 import type { RequestHandler } from './$types';
 
-export const GET: RequestHandler = async ({ locals, params, url }) => {
-	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
+export const GET: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'packs.viewOwn');
+	const { params } = event;
 	const view = await getPackView(member, params.packId);
 	const { chemistry, ...spec } = view.spec;
 	return json({ ...view, spec: { ...spec, chemistryName: chemistry.name } });
 };
 
-export const PATCH: RequestHandler = async ({ locals, params, url, request }) => {
-	const member = await requireMemberWith(locals, params, url, 'packs.edit');
+export const PATCH: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'packs.edit');
+	const { request, params } = event;
 	const input = await readJson(request, packPatchSchema);
 	if (input instanceof Response) return input;
 	const result = await updatePack(member, params.packId, input);

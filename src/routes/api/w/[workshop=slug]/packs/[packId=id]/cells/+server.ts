@@ -1,19 +1,20 @@
 import { json } from '@sveltejs/kit';
-import { readJson, problem } from '$lib/server/api';
-import { requireMemberWith } from '$lib/server/auth/permissions';
+import { problem, readJson, requireApiMember } from '$lib/server/api';
 import { addCells, listBatch } from '$lib/server/cells';
 import { cellBatchSchema } from '$lib/schemas/cells';
 import type { RequestHandler } from './$types';
 
-export const GET: RequestHandler = async ({ locals, params, url }) => {
-	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
+export const GET: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'packs.viewOwn');
+	const { params } = event;
 	const batch = await listBatch(member, params.packId);
 	return json({ cells: batch.cells });
 };
 
 /** A batch of arrival measurements: all are added, or none. */
-export const POST: RequestHandler = async ({ locals, params, url, request }) => {
-	const member = await requireMemberWith(locals, params, url, 'measurements.edit');
+export const POST: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'measurements.edit');
+	const { request, params } = event;
 	const input = await readJson(request, cellBatchSchema);
 	if (input instanceof Response) return input;
 	const result = await addCells(member, params.packId, input.cells);

@@ -1,13 +1,13 @@
 import { json } from '@sveltejs/kit';
-import { readJson, problem } from '$lib/server/api';
-import { requireMemberWith } from '$lib/server/auth/permissions';
+import { problem, readJson, requireApiMember } from '$lib/server/api';
 import { acceptMatching, proposeMatching } from '$lib/server/matching';
 import { matchingAcceptSchema, matchingProposalSchema } from '$lib/schemas/packs';
 import type { RequestHandler } from './$types';
 
 /** Proposes a matching (nothing is saved). */
-export const POST: RequestHandler = async ({ locals, params, url, request }) => {
-	const member = await requireMemberWith(locals, params, url, 'packs.edit');
+export const POST: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'packs.edit');
+	const { request, params } = event;
 	const input = await readJson(request, matchingProposalSchema);
 	if (input instanceof Response) return input;
 	const proposal = await proposeMatching(member, params.packId, input);
@@ -16,8 +16,9 @@ export const POST: RequestHandler = async ({ locals, params, url, request }) => 
 };
 
 /** Accepts an assignment (cell ids per group), in one transaction. */
-export const PUT: RequestHandler = async ({ locals, params, url, request }) => {
-	const member = await requireMemberWith(locals, params, url, 'packs.edit');
+export const PUT: RequestHandler = async (event) => {
+	const member = await requireApiMember(event, 'packs.edit');
+	const { request, params } = event;
 	const input = await readJson(request, matchingAcceptSchema);
 	if (input instanceof Response) return input;
 	const result = await acceptMatching(member, params.packId, input);

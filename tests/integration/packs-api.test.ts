@@ -1,0 +1,74 @@
+import { describe, expect, it } from 'vitest';
+import * as packsApi from '../../src/routes/api/w/[workshop=slug]/packs/+server';
+import * as packApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/+server';
+import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
+import * as matchingApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/matching/+server';
+import { apiEvent, joinAs, packFixture } from './helpers';
+
+type Ev = Parameters<typeof packsApi.POST>[0];
+
+describe('the packs JSON API', () => {
+	it('creates a pack, takes a batch of cells, proposes and accepts a matching', async () => {
+		const { owner, spec } = await packFixture({ series: 1, parallel: 1 });
+		const ws = owner.workshop.slug;
+		const created = await packsApi.POST(
+			apiEvent<Ev>(owner, `/api/w/${ws}/packs`, { workshop: ws }, {
+				method: 'POST',
+				body: { name: 'API pack', cellSpecId: spec.id, series: 2, parallel: 2 }
+			})
+		);
+		expect(created.status).toBe(201);
+		const { pack } = (await created.json()) as { pack: { id: string; series: number } };
+		const params = { workshop: ws, packId: pack.id };
+		const base = `/api/w/${ws}/packs/${pack.id}`;
+
+		// Invented measurements; the first one would make the batch fail as a duplicate of itself.
+		const cells = [4.0, 4.1, 3.9, 4.05, 3.95].map((capacityAh, i) => ({ label: `P${i}`, volts: 3.6, capacityAh }));
+		const dup = await cellsApi.POST(apiEvent(owner, `${base}/cells`, params, { method: 'POST', body: { cells: [...cells, cells[0]] } }));
+		expect(dup.status).toBe(400);
+		expect(((await dup.json()) as { errors: { path: string }[] }).errors[0].path).toBe('cells.5.label');
+		const added = await cellsApi.POST(apiEvent(owner, `${base}/cells`, params, { method: 'POST', body: { cells } }));
+		expect(added.status).toBe(201);
+		const again = await cellsApi.POST(apiEvent(owner, `${base}/cells`, params, { method: 'POST', body: { cells: [cells[1]] } }));
+		expect(again.status).toBe(409);
+
+		const proposed = await matchingApi.POST(apiEvent(owner, `${base}/matching`, params, { method: 'POST', body: {} }));
+		expect(proposed.status).toBe(200);
+		const proposal = (await proposed.json()) as { groups: { cellIds: string[] }[]; spares: string[]; spreadAh: number };
+		expect(proposal.groups).toHaveLength(2);
+		expect(proposal.spares).toHaveLength(1);
+		const accepted = await matchingApi.PUT(
+			apiEvent(owner, `${base}/matching`, params, { method: 'PUT', body: { groups: proposal.groups.map((g) => g.cellIds) } })
+		);
+		expect(accepted.status).toBe(200);
+		expect(await accepted.json()).toEqual({ ok: true, placed: 4, spares: 1 });
+
+		const read = await packApi.GET(apiEvent(owner, base, params));
+		const view = (await read.json()) as { pack: { series: number }; ratings: { capacityAh: number } };
+		// 2P of a 4 Ah spec: 8 Ah (the fixture's spec), written out here.
+		expect(view.ratings.capacityAh).toBe(8);
+
+		const patched = await packApi.PATCH(apiEvent(owner, base, params, { method: 'PATCH', body: { parallel: 3 } }));
+		expect(await patched.json()).toMatchObject({ clearedAssignment: true, pack: { parallel: 3 } });
+	});
+
+	it('answers 401 signed out, 400 with field paths, 403 by role and 404 across workshops', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		const ws = owner.workshop.slug;
+		const params = { workshop: ws, packId: pack.id };
+		await expect(packsApi.GET(apiEvent(null, `/api/w/${ws}/packs`, { workshop: ws }))).rejects.toMatchObject({ status: 401 });
+
+		const bad = await packsApi.POST(apiEvent<Ev>(owner, `/api/w/${ws}/packs`, { workshop: ws }, { method: 'POST', body: { name: '', series: 0 } }));
+		expect(bad.status).toBe(400);
+		const paths = ((await bad.json()) as { errors: { path: string }[] }).errors.map((e) => e.path);
+		expect(paths).toEqual(expect.arrayContaining(['name', 'series', 'cellSpecId', 'parallel']));
+
+		const tech = await joinAs(owner, 'technician');
+		await expect(packApi.PATCH(apiEvent(tech, '/x', params, { method: 'PATCH', body: { series: 3 } }))).rejects.toMatchObject({ status: 403 });
+		await expect(matchingApi.POST(apiEvent(tech, '/x', params, { method: 'POST', body: {} }))).rejects.toMatchObject({ status: 403 });
+		expect((await cellsApi.GET(apiEvent(tech, '/x', params))).status).toBe(200);
+
+		const stranger = await packFixture({ series: 1, parallel: 1 });
+		await expect(packApi.GET(apiEvent(stranger.owner, '/x', { workshop: stranger.owner.workshop.slug, packId: pack.id }))).rejects.toMatchObject({ status: 404 });
+	});
+});
