@@ -12,7 +12,8 @@ export const tokens = {
 	ink: { light: '#1c1a17', dark: '#ece8e2' },
 	'ink-muted': { light: '#6b655d', dark: '#a39b90' },
 	line: { light: '#e4dfd8', dark: '#2e2b27' },
-	copper: { light: '#b5622a', dark: '#e08a4f' },
+	// Darker than look.md's #b5622a in light: that failed WCAG AA (4.1:1) as text on the surface.
+	copper: { light: '#a65723', dark: '#e08a4f' },
 	// Text on a copper button: white on light copper, near-black on the brighter dark copper.
 	'on-copper': { light: '#ffffff', dark: '#151413' },
 	steady: { light: '#2f8f6f', dark: '#4fb58f' },

@@ -1,0 +1,50 @@
+import AxeBuilder from '@axe-core/playwright';
+import { expect, test, type Page } from '@playwright/test';
+import { signUp, uniqueEmail } from './helpers';
+
+// WCAG 2 A/AA rules checked by axe-core in both themes (look.md asks for AA contrast in each).
+async function expectAccessible(page: Page, path: string) {
+	await page.goto(path);
+	for (const colorScheme of ['light', 'dark'] as const) {
+		await page.emulateMedia({ colorScheme });
+		const { violations } = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'best-practice']).analyze();
+		const found = violations.map((v) => `${v.id} (${v.impact}) at ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`);
+		expect(found, `${path} in the ${colorScheme} theme`).toEqual([]);
+	}
+}
+
+test('the pages a builder uses pass axe in light and dark', async ({ page }) => {
+	test.setTimeout(120_000);
+	for (const path of ['/', '/login', '/signup', '/forgot']) await expectAccessible(page, path);
+
+	const slug = await signUp(page, { name: 'Ada Access', email: uniqueEmail('a11y'), workshop: 'Access Bench' });
+	await page.goto(`/w/${slug}/cell-specs/new`);
+	await page.getByLabel('Name').fill('A11y 18650');
+	await page.getByLabel('Capacity (Ah)').fill('3');
+	await page.getByLabel('Max charge current (A)').fill('1.5');
+	await page.getByLabel('Max continuous discharge (A)').fill('10');
+	await page.getByRole('button', { name: 'Save cell spec' }).click();
+	await expect(page.getByRole('cell', { name: 'A11y 18650' })).toBeVisible();
+	await page.goto(`/w/${slug}/packs/new`);
+	await page.getByLabel('Pack name').fill('A11y pack');
+	await page.getByRole('button', { name: 'Create pack' }).click();
+	await expect(page.getByRole('heading', { name: 'A11y pack' })).toBeVisible();
+	const pack = new URL(page.url()).pathname;
+
+	for (const path of [
+		`/w/${slug}/packs`,
+		pack,
+		`${pack}/cells`,
+		`${pack}/matching`,
+		`/w/${slug}/packs/new`,
+		`/w/${slug}/cell-specs`,
+		`/w/${slug}/chargers`,
+		`/w/${slug}/chargers/new`,
+		`/w/${slug}/chemistries`,
+		`/w/${slug}/workshop`,
+		`/w/${slug}/workshop/members`,
+		'/account'
+	]) {
+		await expectAccessible(page, path);
+	}
+});
