@@ -11,7 +11,6 @@ const config = {
 	kit: {
 		// The tests build elsewhere so they never pull files from under a running `npm start`.
 		adapter: adapter({ out: process.env.CELLSITTER_BUILD_DIR || 'build' }),
-		alias: { $tests: 'tests' },
 		typescript: {
 			// Type-check against our declaration of the test-only `odex`, not its unstrict source.
 			config: (config) => {
