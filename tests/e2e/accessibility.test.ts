@@ -17,7 +17,9 @@ async function expectAccessible(page: Page, path: string) {
 	}
 }
 
+// axe takes a few seconds a page on two shared cores: these tests get more than the default 30 s.
 test('the signed-out pages pass axe in light and dark', async ({ page }) => {
+	test.setTimeout(120_000);
 	for (const path of ['/', '/login', '/signup', '/forgot']) await expectAccessible(page, path);
 });
 
