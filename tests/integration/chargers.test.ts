@@ -27,7 +27,7 @@ import type { Role } from '$lib/permissions';
 import type { ChargerInput } from '$lib/schemas/chargers';
 import type { ChemistryProfileInput } from '$lib/schemas/chemistry';
 import * as api from '../../src/routes/api/w/[workshop=slug]/chargers/+server';
-import { signUpOwner } from './helpers';
+import { apiEvent, signUpOwner } from './helpers';
 
 const ORIGIN = 'http://127.0.0.1:3100';
 
@@ -219,17 +219,8 @@ describe('the chargers endpoint', () => {
 	});
 
 	function event(workshopOf: Member, who: Member | null, init: { method?: string; body?: string } = {}) {
-		const url = new URL(`http://127.0.0.1/api/w/${workshopOf.workshop.slug}/chargers`);
-		return {
-			locals: { user: who?.user ?? null, session: null },
-			params: { workshop: workshopOf.workshop.slug },
-			url,
-			request: new Request(url, {
-				method: init.method ?? 'GET',
-				body: init.body,
-				headers: init.body ? { 'content-type': 'application/json' } : undefined
-			})
-		} as unknown as Event;
+		const slug = workshopOf.workshop.slug;
+		return apiEvent<Event>(who, `/api/w/${slug}/chargers`, { workshop: slug }, init);
 	}
 
 	it('creates with 201 and lists what it created', async () => {

@@ -3,7 +3,7 @@ import { Solver } from 'odex';
 import { describe, expect, it } from 'vitest';
 import { planBleed, type BleedInput } from './plan-bleed';
 import { restVoltageFromSoc, socFromRestVoltage } from './soc';
-import { at, firstBadNumber } from './test-support';
+import { at, firstBadNumber, stepsStartingUnattended } from './test-support';
 
 function plan(input: BleedInput) {
 	const r = planBleed(input);
@@ -81,10 +81,7 @@ describe('planBleed', () => {
 						return;
 					}
 					expect(firstBadNumber(r)).toBeNull();
-					for (const s of r.steps) {
-						const t = s.start.getTime();
-						expect(handsOn.some((w) => w.start.getTime() <= t && t < w.end.getTime())).toBe(true);
-					}
+					expect(stepsStartingUnattended(r.steps, handsOn)).toEqual([]);
 				}
 			),
 			{ numRuns: 40 }

@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { estimateCharge } from './charge';
 import type { PlanGroup } from './plan-common';
 import { planOneAtATime, type OneAtATimeInput } from './plan-one';
-import { at, firstBadNumber } from './test-support';
+import { at, firstBadNumber, stepsStartingUnattended } from './test-support';
 
 const H = 3_600_000;
 const hoursBetween = (a: Date, b: Date) => (b.getTime() - a.getTime()) / H;
@@ -134,10 +134,7 @@ describe('planOneAtATime', () => {
 					return;
 				}
 				expect(firstBadNumber(r)).toBeNull();
-				for (const s of r.steps) {
-					const t = s.start.getTime();
-					expect(handsOn.some((w) => w.start.getTime() <= t && t < w.end.getTime())).toBe(true);
-				}
+				expect(stepsStartingUnattended(r.steps, handsOn)).toEqual([]);
 				for (let i = 1; i < r.steps.length; i++) {
 					expect(r.steps[i].start.getTime()).toBeGreaterThanOrEqual(r.steps[i - 1].end.getTime() + swap * 60_000 - 1);
 				}

@@ -159,3 +159,10 @@ export function enumeratedMakespan(durations: number[], machines: number): numbe
 	visit(0);
 	return best;
 }
+
+/** The start of each step that falls outside every hands-on window (none, when the plan is sound). */
+export function stepsStartingUnattended(steps: { start: Date }[], handsOn: { start: Date; end: Date }[]): Date[] {
+	return steps
+		.map((s) => s.start)
+		.filter((t) => !handsOn.some((w) => w.start.getTime() <= t.getTime() && t.getTime() < w.end.getTime()));
+}
