@@ -11,7 +11,7 @@ import { requirePermission, type Member } from './auth/permissions';
 import type { CellSpecWithChemistry } from './cell-specs';
 import { getCellSpec } from './cell-specs';
 import { db, sqlClient } from './db';
-import { cells, packGroups, type Cell } from './db/schema';
+import { cells, packGroups, type Cell, type Pack } from './db/schema';
 import { newId } from './ids';
 import { requirePack } from './packs';
 
@@ -21,7 +21,7 @@ export type InspectedCell = Cell & {
 	flags: CellVerdict['flags'];
 };
 
-export type Batch = { spec: CellSpecWithChemistry; cells: InspectedCell[] };
+export type Batch = { pack: Pack; spec: CellSpecWithChemistry; cells: InspectedCell[] };
 
 /** Runs the engine's inspection over the whole batch. */
 export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupIndex: number | null })[]): InspectedCell[] {
@@ -39,7 +39,7 @@ export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupI
 	return rows.map((c) => ({ ...c, verdict: byId.get(c.id)!.verdict, flags: byId.get(c.id)!.flags }));
 }
 
-/** The pack's cells with their group and inspection verdict, by label. */
+/** The pack (when the member may see it), its spec, and its cells with group and verdict, by label. */
 export async function listBatch(member: Member, packId: string): Promise<Batch> {
 	const pack = await requirePack(member, packId);
 	const [spec, rows] = await Promise.all([
@@ -51,7 +51,7 @@ export async function listBatch(member: Member, packId: string): Promise<Batch> 
 			.where(eq(cells.packId, packId))
 			.orderBy(asc(cells.label))
 	]);
-	return { spec, cells: inspectBatch(spec, rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }))) };
+	return { pack, spec, cells: inspectBatch(spec, rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }))) };
 }
 
 export type AddCellsResult =

@@ -8,7 +8,7 @@ import { requirePermission, type Member } from './auth/permissions';
 import { listBatch, type InspectedCell } from './cells';
 import { db } from './db';
 import { cells } from './db/schema';
-import { listGroups, requirePack } from './packs';
+import { listGroups } from './packs';
 
 /** A cell's capacity for matching: measured, else the spec's nominal capacity. */
 export function matchingCapacity(cell: Pick<InspectedCell, 'capacityAh'>, nominalAh: number): number {
@@ -26,8 +26,7 @@ export async function proposeMatching(
 	options: { includeSuspect: boolean }
 ): Promise<Proposal> {
 	requirePermission(member, 'packs.edit');
-	const pack = await requirePack(member, packId);
-	const { spec, cells: batch } = await listBatch(member, packId);
+	const { pack, spec, cells: batch } = await listBatch(member, packId);
 	const rejected = batch.filter((c) => c.verdict === 'reject' || c.placement === 'rejected');
 	const suspect = batch.filter((c) => c.verdict === 'suspect' && c.placement !== 'rejected');
 	const usable = batch.filter(
@@ -81,7 +80,7 @@ export async function acceptMatching(
 	input: { groups: string[][]; replace: boolean }
 ): Promise<AcceptResult> {
 	requirePermission(member, 'packs.edit');
-	const pack = await requirePack(member, packId);
+	const { pack, cells: batch } = await listBatch(member, packId);
 	const { groups } = input;
 	if (groups.length !== pack.series || groups.some((g) => g.length !== pack.parallel)) {
 		return {
@@ -94,7 +93,6 @@ export async function acceptMatching(
 	if (new Set(ids).size !== ids.length) {
 		return { ok: false, reason: 'duplicate-cell', message: 'A cell appears in two places.' };
 	}
-	const { cells: batch } = await listBatch(member, packId);
 	const byId = new Map(batch.map((c) => [c.id, c]));
 	const unknown = ids.find((id) => !byId.has(id));
 	if (unknown) return { ok: false, reason: 'unknown-cell', message: 'A cell in the assignment is not in this batch.' };

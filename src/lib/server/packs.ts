@@ -194,13 +194,15 @@ export type PackView = {
 /** A pack with its spec, chemistry and ratings from the engine. */
 export async function getPackView(member: Member, packId: string): Promise<PackView> {
 	const pack = await requirePack(member, packId);
+	return packView(pack, await getCellSpec(member, pack.cellSpecId));
+}
+
+/** The view of a pack already loaded (and checked) with its spec: names and ratings. */
+export async function packView(pack: Pack, spec: CellSpecWithChemistry): Promise<PackView> {
 	const people = [pack.packOwnerId, pack.updatedBy].filter((id): id is string => Boolean(id));
-	const [spec, named] = await Promise.all([
-		getCellSpec(member, pack.cellSpecId),
-		people.length
-			? db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people))
-			: Promise.resolve([])
-	]);
+	const named = people.length
+		? await db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, people))
+		: [];
 	const nameOf = (id: string | null) => named.find((u) => u.id === id)?.name ?? null;
 	const rated = rateSpecPack(spec, pack);
 	return {

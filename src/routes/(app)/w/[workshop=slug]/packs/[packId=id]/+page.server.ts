@@ -3,16 +3,16 @@ import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listAttachments } from '$lib/server/attachments';
 import { listBatch } from '$lib/server/cells';
 import { matchingCapacity } from '$lib/server/matching';
-import { getPackView } from '$lib/server/packs';
+import { packView } from '$lib/server/packs';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
-	const [view, batch, attachments] = await Promise.all([
-		getPackView(member, params.packId),
+	const [batch, attachments] = await Promise.all([
 		listBatch(member, params.packId),
 		listAttachments(member, params.packId)
 	]);
+	const view = await packView(batch.pack, batch.spec);
 	const { series } = view.pack;
 	const groups = Array.from({ length: series }, (_, i) => {
 		const members = batch.cells.filter((c) => c.groupIndex === i + 1);

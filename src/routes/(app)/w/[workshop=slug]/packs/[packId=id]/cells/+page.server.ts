@@ -2,14 +2,14 @@ import { fail } from '@sveltejs/kit';
 import { can } from '$lib/permissions';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { addCells, correctCell, importCellCsv, listBatch, removeCell } from '$lib/server/cells';
-import { requirePack } from '$lib/server/packs';
 import { cellBatchSchema, cellCorrectionSchema } from '$lib/schemas/cells';
 import { parseDecimal } from '$lib/cells-csv';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
-	const [pack, batch] = await Promise.all([requirePack(member, params.packId), listBatch(member, params.packId)]);
+	const batch = await listBatch(member, params.packId);
+	const { pack } = batch;
 	return {
 		pack: { id: pack.id, name: pack.name, series: pack.series, parallel: pack.parallel },
 		chemistryName: batch.spec.chemistry.name,
