@@ -1,6 +1,7 @@
 /** Accounts: sign-up, sign-in with a password, password reset, OAuth identities. */
 import { and, eq, gt, isNull } from 'drizzle-orm';
 import { db } from './db';
+import { isUniqueViolation } from './db/errors';
 import { oauthAccounts, oauthPending, passwordResetTokens, users, type Workshop } from './db/schema';
 import { hashToken, newId, newToken } from './ids';
 import { escapeHtml, sendMail } from './mail';
@@ -69,11 +70,6 @@ class SignUpRefused extends Error {
 	}
 }
 
-function isUniqueViolation(e: unknown, constraint: string): boolean {
-	const err = (e as { cause?: unknown })?.cause ?? e;
-	return (err as { code?: string; constraint_name?: string })?.code === '23505' &&
-		(err as { constraint_name?: string }).constraint_name === constraint;
-}
 
 export type SignInResult =
 	| { ok: true; userId: string }

@@ -6,6 +6,7 @@ import { parseChemistryChoice, type CellSpecInput } from '$lib/schemas/packs';
 import { requirePermission, type Member } from './auth/permissions';
 import { toEngineChemistry } from './chemistry-profiles';
 import { db } from './db';
+import { isUniqueViolation } from './db/errors';
 import { cellSpecs, chemistryProfiles, type CellSpec, type ChemistryProfile } from './db/schema';
 import { newId } from './ids';
 
@@ -105,7 +106,7 @@ export async function updateCellSpec(member: Member, specId: string, input: Cell
 			.returning();
 		return { ok: true, spec };
 	} catch (e) {
-		if ((e as { cause?: { code?: string } }).cause?.code === '23505') return nameTaken(input.name);
+		if (isUniqueViolation(e)) return nameTaken(input.name);
 		throw e;
 	}
 }

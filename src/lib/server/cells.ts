@@ -11,6 +11,7 @@ import { requirePermission, type Member } from './auth/permissions';
 import type { CellSpecWithChemistry } from './cell-specs';
 import { getCellSpec } from './cell-specs';
 import { db, sqlClient } from './db';
+import { isUniqueViolation } from './db/errors';
 import { cells, packGroups, type Cell, type Pack } from './db/schema';
 import { newId } from './ids';
 import { requirePack } from './packs';
@@ -148,7 +149,7 @@ export async function correctCell(
 		if (!cell) error(404, 'Not found');
 		return { ok: true, cell };
 	} catch (e) {
-		if ((e as { cause?: { code?: string } }).cause?.code === '23505') {
+		if (isUniqueViolation(e)) {
 			return { ok: false, field: 'label', message: `Another cell in this batch is labelled “${patch.label}”.` };
 		}
 		throw e;

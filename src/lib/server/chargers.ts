@@ -5,6 +5,7 @@ import type { Channel } from '$lib/engine';
 import type { ChargerInput } from '$lib/schemas/chargers';
 import { requirePermission, type Member } from './auth/permissions';
 import { db, type Tx } from './db';
+import { PG, pgCode } from './db/errors';
 import { chargerChannels, chargers, users, type Charger, type ChargerChannel } from './db/schema';
 import { newId } from './ids';
 
@@ -20,11 +21,6 @@ export type ChargerDeleteResult = { ok: true } | { ok: false; reason: 'in-use'; 
 
 const nameTaken = (name: string) =>
 	({ ok: false, reason: 'name-taken', message: `There is already a charger called “${name}”.` }) as const;
-
-function pgCode(e: unknown): string | undefined {
-	const err = (e as { cause?: unknown })?.cause ?? e;
-	return (err as { code?: string })?.code;
-}
 
 /** Rows of a charger ⟕ channels join → chargers with their channels, in the order the rows came. */
 function groupChannels(rows: { charger: Charger; channel: ChargerChannel | null }[]): ChargerWithChannels[] {
@@ -134,7 +130,7 @@ export async function updateCharger(member: Member, chargerId: string, input: Ch
 			return { ok: true as const, charger: { ...charger, channels } };
 		});
 	} catch (e) {
-		if (pgCode(e) === '23505') return nameTaken(input.name.trim());
+		if (pgCode(e) === PG.uniqueViolation) return nameTaken(input.name.trim());
 		throw e;
 	}
 }
@@ -151,7 +147,7 @@ export async function deleteCharger(member: Member, chargerId: string): Promise<
 		return { ok: true };
 	} catch (e) {
 		// Sessions and plans that used the charger keep it (restricting foreign keys).
-		if (pgCode(e) === '23503') {
+		if (pgCode(e) === PG.foreignKeyViolation) {
 			return { ok: false, reason: 'in-use', message: 'This charger is part of a charge plan or session, so it stays.' };
 		}
 		throw e;

@@ -17,6 +17,7 @@ import {
 import { socFromPercent, type ChemistryProfileInput } from '$lib/schemas/chemistry';
 import { requirePermission, type Member } from './auth/permissions';
 import { db } from './db';
+import { PG, pgCode } from './db/errors';
 import { cellSpecs, chemistryProfiles, users, type ChemistryProfile } from './db/schema';
 import { newId } from './ids';
 
@@ -49,11 +50,6 @@ export type ProfileDeleteResult = { ok: true } | { ok: false; reason: 'in-use'; 
 export type ChemistryProfileDetail = ChemistryProfile & { updatedByName: string | null; usedBySpecs: string[] };
 
 const builtInIds = Object.keys(chemistries) as ChemistryId[];
-
-function pgCode(e: unknown): string | undefined {
-	const err = (e as { cause?: unknown })?.cause ?? e;
-	return (err as { code?: string })?.code;
-}
 
 /** The engine's own failure text (its field is `detail`; older drafts called it `message`). */
 function failureText(failure: Failure): string {
@@ -208,7 +204,7 @@ export async function updateChemistryProfile(
 		if (!profile) error(404, 'Not found');
 		return { ok: true, profile };
 	} catch (e) {
-		if (pgCode(e) === '23505') return nameTaken(values.name);
+		if (pgCode(e) === PG.uniqueViolation) return nameTaken(values.name);
 		throw e;
 	}
 }
@@ -232,7 +228,7 @@ export async function deleteChemistryProfile(member: Member, profileId: string):
 		return { ok: true };
 	} catch (e) {
 		// A cell spec chose this profile between the check and the delete.
-		if (pgCode(e) === '23503') return inUse([]);
+		if (pgCode(e) === PG.foreignKeyViolation) return inUse([]);
 		throw e;
 	}
 }
