@@ -79,8 +79,41 @@ export const memberSchema = z.object({ userId: z.string().min(1) });
 
 export const workshopSchema = z.object({ name: workshopName, timeZone });
 
-/** Where to go after signing in: only a path on this site. */
+/** Stand-in origin to resolve `next` against: reserved (RFC 2606 `.invalid`), so any value that
+ * names a host of its own — absolute, protocol-relative, or spelt with `\\` — lands elsewhere. */
+const SITE = 'https://cellsitter.invalid';
+/** Longer than any path of ours; a cap keeps a hostile value out of cookies and headers. */
+const NEXT_MAX = 2048;
+/** C0 controls, DEL, C1 controls (a browser drops tab/LF/CR inside a URL), and `\` (read as `/`). */
+const UNSAFE = /[\u0000-\u001f\u007f-\u009f\\]/;
+
+/**
+ * Where to go after signing in: only a path on this site, returned in its URL-serialised form
+ * (printable ASCII, so a Location header can carry it). Anything else gives `fallback`.
+ * Percent-escapes are decoded repeatedly before the checks, so `%09`, `%5C`, `%2F%2F` and their
+ * doubly-encoded forms are refused like the characters they stand for.
+ */
 export function safeNext(next: string | null | undefined, fallback = '/'): string {
-	if (!next || !next.startsWith('/') || next.startsWith('//') || next.startsWith('/\\')) return fallback;
-	return next;
+	if (!next || next.length > NEXT_MAX) return fallback;
+	let decoded = next;
+	for (let round = 0; round < 4; round++) {
+		if (UNSAFE.test(decoded) || !decoded.startsWith('/') || decoded.startsWith('//')) return fallback;
+		let once: string;
+		try {
+			once = decodeURIComponent(decoded);
+		} catch {
+			return fallback;
+		}
+		if (once === decoded) break;
+		if (round === 3) return fallback;
+		decoded = once;
+	}
+	let url: URL;
+	try {
+		url = new URL(next, SITE);
+	} catch {
+		return fallback;
+	}
+	if (url.origin !== SITE) return fallback;
+	return url.pathname + url.search + url.hash;
 }
