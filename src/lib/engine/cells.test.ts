@@ -1,6 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { inspectCells, matchCells, type MatchInputCell } from './cells';
+import { chemistries } from './chemistry';
+import { inspectBatch, inspectCells, matchCells, pickLeastRiskySuspects, type ArrivalCell, type MatchInputCell } from './cells';
 import { enumeratedEqualCountSpread, exactEqualCountSpread, prng } from './test-support';
 
 function match(cells: MatchInputCell[], series: number, parallel: number) {
@@ -25,7 +26,7 @@ describe('inspectCells', () => {
 	it.each([
 		['a', 'ok', []],
 		['low-v', 'suspect', ['low-volts']], // > 100 mV under the batch median (common practice)
-		['dead', 'reject', ['below-reject-volts']], // below 2.0 V — BU-702
+		['dead', 'reject', ['over-discharged']], // below NMC's 2.50 V minimum — BU-216
 		['high-r', 'suspect', ['high-resistance']], // > 1.5 × median resistance (common practice)
 		['weak', 'suspect', ['low-capacity']], // > 5 % under median capacity (common practice)
 		['over', 'reject', ['above-max-volts']] // above 4.30 V plates lithium — BU-409
@@ -41,15 +42,74 @@ describe('inspectCells', () => {
 		expect(r.filter((c) => c.verdict === 'suspect')).toEqual([]);
 	});
 
-	it('LTO rejects below its own 1.5 V minimum, not 2.0 V (BU-216)', () => {
-		const r = inspectCells('lto', [{ id: 'x', volts: 1.8 }, { id: 'y', volts: 1.4 }]);
-		expect(Array.isArray(r) && r.map((c) => c.verdict)).toEqual(['ok', 'reject']);
+	// The absolute minimum ("minimal V") of BU-216 "Summary Table of Lithium-based Batteries":
+	// NMC, NCA 2.50 V, LFP 2.00 V, LTO 1.50 V (est.); each cell alone, so no batch median flags it.
+	it.each([
+		['nmc', 2.1, 'reject'], // 2.10 V NMC: over-discharged, not merely low (issue 7)
+		['nmc', 2.49, 'reject'],
+		['nmc', 2.5, 'ok'], // at the minimum, not below it
+		['nca', 2.45, 'reject'],
+		['nca', 2.55, 'ok'],
+		['lfp', 1.95, 'reject'],
+		['lfp', 2.05, 'ok'],
+		['lto', 1.45, 'reject'],
+		['lto', 1.55, 'ok']
+	] as const)('%s at %f V → %s (BU-216)', (chemistry, volts, verdict) => {
+		const r = inspectCells(chemistry, [{ id: 'x', volts }]);
+		if (!Array.isArray(r)) throw new Error(r.reason);
+		expect(r[0]).toEqual({ id: 'x', verdict, flags: verdict === 'reject' ? ['over-discharged'] : [] });
+	});
+
+	it('an over-discharged NMC cell in a healthy batch is rejected, not suspect', () => {
+		const r = inspectBatch('nmc', [...batch.slice(0, 4), { id: 'flat', volts: 2.1, capacityAh: 3.0 }]);
+		if ('ok' in r) throw new Error(r.reason);
+		expect(r.verdicts.find((v) => v.id === 'flat')).toEqual({ id: 'flat', verdict: 'reject', flags: ['over-discharged'] });
+		expect(r.limits.rejectBelowVolts).toBe(2.5); // BU-216 NMC minimum
+	});
+
+	it('a 4.2 V profile never rejects below 2.0 V even when it says less (BU-702), and options cannot lower the floor', () => {
+		const lax = { ...chemistries.nmc, id: 'workshop-nmc', minVolts: 1.8, fullDischargeVolts: 2.8 };
+		const r = inspectCells(lax, [{ id: 'x', volts: 1.9 }]);
+		expect(Array.isArray(r) && r[0].verdict).toBe('reject');
+		const s = inspectCells('nmc', [{ id: 'y', volts: 2.1 }], { rejectBelowVolts: 1.0 });
+		expect(Array.isArray(s) && s[0].verdict).toBe('reject');
+		const t = inspectCells('nmc', [{ id: 'z', volts: 2.8 }], { rejectBelowVolts: 3.0 });
+		expect(Array.isArray(t) && t[0].verdict).toBe('reject');
 	});
 
 	it('marks a cell with no voltage reading; refuses an unknown chemistry', () => {
 		const r = inspectCells('nmc', [{ id: 'x', volts: Number.NaN }]);
 		expect(Array.isArray(r) && r[0]).toEqual({ id: 'x', verdict: 'suspect', flags: ['missing-volts'] });
 		expect(inspectCells('lipo' as never, [])).toMatchObject({ ok: false });
+	});
+});
+
+describe('pickLeastRiskySuspects', () => {
+	// NMC batch at 3.60 V, 20 mΩ, 3.00 Ah: medians 3.60 V, 20 mΩ, 3.00 Ah, so suspect below 3.50 V,
+	// above 30 mΩ and below 2.85 Ah. Input order scrambled so that it cannot decide the choice.
+	const good = ['a', 'b', 'c', 'd', 'e', 'f'].map((id) => ({ id, volts: 3.6, resistanceMilliOhms: 20, capacityAh: 3.0 }));
+	const cells: ArrivalCell[] = [
+		{ id: 'v-low', volts: 3.4, resistanceMilliOhms: 20, capacityAh: 3.0 },
+		{ id: 'qr-both', volts: 3.6, resistanceMilliOhms: 32, capacityAh: 2.8 },
+		{ id: 'r-high', volts: 3.6, resistanceMilliOhms: 32, capacityAh: 3.0 },
+		{ id: 'dead', volts: 2.1, resistanceMilliOhms: 20, capacityAh: 3.0 },
+		{ id: 'q-weaker', volts: 3.6, resistanceMilliOhms: 20, capacityAh: 2.6 },
+		{ id: 'q-weak', volts: 3.6, resistanceMilliOhms: 20, capacityAh: 2.8 },
+		...good
+	];
+	const inspection = inspectBatch('nmc', cells);
+	if ('ok' in inspection) throw new Error(inspection.reason);
+
+	// Worked by hand: capacity shortfall first (the smaller shortfall first), then high resistance
+	// (one flag before two), then low voltage; the over-discharged cell never.
+	it.each([
+		[0, [], ['q-weak', 'q-weaker', 'r-high', 'qr-both', 'v-low']],
+		[1, ['q-weak'], ['q-weaker', 'r-high', 'qr-both', 'v-low']],
+		[3, ['q-weak', 'q-weaker', 'r-high'], ['qr-both', 'v-low']],
+		[4, ['q-weak', 'q-weaker', 'r-high', 'qr-both'], ['v-low']],
+		[9, ['q-weak', 'q-weaker', 'r-high', 'qr-both', 'v-low'], []]
+	])('short by %i → uses %j', (count, used, left) => {
+		expect(pickLeastRiskySuspects(cells, inspection, count)).toEqual({ used, left });
 	});
 });
 

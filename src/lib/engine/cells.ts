@@ -1,4 +1,4 @@
-import { resolveChemistry, type Chemistry, type ChemistryId } from './chemistry';
+import { familyOf, resolveChemistry, type Chemistry, type ChemistryId } from './chemistry';
 import { partitionCore } from './partition';
 import { fail, isFiniteNumber, isPositive, type Failure, type Result } from './types';
 
@@ -11,7 +11,11 @@ export interface ArrivalCell {
 }
 
 export interface InspectOptions {
-	/** Reject below this; default min(2.0 V, chemistry minimum) — BU-702 "How to Store Batteries". */
+	/**
+	 * Reject below this. It can only raise the floor, never lower it: the floor is the chemistry's
+	 * absolute minimum (BU-216: NMC, NCA, LCO, LMO 2.5 V, LFP 2.0 V, LTO 1.5 V), and for the 4.2 V
+	 * family never under 2.0 V whatever a custom profile says (BU-702 "How to Store Batteries").
+	 */
 	rejectBelowVolts?: number;
 	/** Reject above the chemistry's maximum charge voltage plus this; default 0.10 V (4.30 V for Li-ion — BU-409). */
 	rejectAboveMaxVolts?: number;
@@ -24,7 +28,7 @@ export interface InspectOptions {
 }
 
 export type CellFlag =
-	| 'below-reject-volts'
+	| 'over-discharged'
 	| 'above-max-volts'
 	| 'low-volts'
 	| 'high-resistance'
@@ -37,6 +41,33 @@ export interface CellVerdict {
 	flags: CellFlag[];
 }
 
+/** The thresholds one batch was judged by (volts, mΩ, Ah); the medians are absent when nothing was measured. */
+export interface InspectionLimits {
+	/** Below this a cell is over-discharged: rejected. */
+	rejectBelowVolts: number;
+	/** Above this a cell is over-charged: rejected. */
+	rejectAboveVolts: number;
+	maxChargeVolts: number;
+	medianVolts?: number;
+	/** Suspect below this (median − lowVoltsBelowMedian). */
+	lowVoltsBelow?: number;
+	medianResistanceMilliOhms?: number;
+	/** Suspect above this (factor × median). */
+	highResistanceAbove?: number;
+	resistanceFactor: number;
+	medianCapacityAh?: number;
+	/** Suspect below this ((1 − shortfall) × median). */
+	lowCapacityBelow?: number;
+}
+
+export interface Inspection {
+	limits: InspectionLimits;
+	verdicts: CellVerdict[];
+}
+
+/** The 4.2 V family's floor: a Li-ion cell kept below 2.0 V is to be discarded — BU-702. */
+const LI_ION_FLOOR_VOLTS = 2.0;
+
 function median(xs: number[]): number | undefined {
 	if (xs.length === 0) return undefined;
 	const s = [...xs].sort((a, b) => a - b);
@@ -44,20 +75,27 @@ function median(xs: number[]): number | undefined {
 	return s.length % 2 ? s[mid] : (s[mid - 1] + s[mid]) / 2;
 }
 
+/** The absolute minimum a cell of this chemistry may ever sit at (see InspectOptions.rejectBelowVolts). */
+export function absoluteMinimumVolts(chemistry: Chemistry): number {
+	return familyOf(chemistry) === 'li-ion' ? Math.max(chemistry.minVolts, LI_ION_FLOOR_VOLTS) : chemistry.minVolts;
+}
+
 /**
- * Flags each arrival cell against the batch medians: reject below 2.0 V (BU-702) or above the
- * charge limit + 0.1 V (BU-409), suspect > 100 mV under the median voltage, resistance > 1.5 × median,
- * capacity > 5 % under median. A cell whose voltage is not a number is suspect ('missing-volts').
+ * Judges each arrival cell. Rejected: below the chemistry's absolute minimum (over-discharged —
+ * BU-216, BU-702) or above the charge limit + 0.1 V (BU-409). Suspect: > 100 mV under the median
+ * voltage, resistance > 1.5 × median, capacity > 5 % under median, or no voltage ('missing-volts').
+ * Returns the verdicts with the thresholds used, so that messages can quote them.
  */
-export function inspectCells(
+export function inspectBatch(
 	chemistry: ChemistryId | Chemistry,
 	cells: ArrivalCell[],
 	options: InspectOptions = {}
-): CellVerdict[] | Failure {
+): Inspection | Failure {
 	const chem = resolveChemistry(chemistry);
 	if ('ok' in chem) return chem;
 	if (!Array.isArray(cells)) return fail('invalid-cells', 'A list of cells is needed.');
-	const rejectBelow = options.rejectBelowVolts ?? Math.min(2.0, chem.minVolts);
+	const floor = absoluteMinimumVolts(chem);
+	const rejectBelow = Math.max(floor, options.rejectBelowVolts ?? floor);
 	const rejectAbove = chem.maxChargeVolts + (options.rejectAboveMaxVolts ?? 0.1);
 	const lowBy = options.lowVoltsBelowMedian ?? 0.1;
 	const rFactor = options.resistanceFactor ?? 1.5;
@@ -65,27 +103,101 @@ export function inspectCells(
 	if (![rejectBelow, rejectAbove, lowBy, rFactor, shortfall].every(isFiniteNumber)) {
 		return fail('invalid-options', 'Inspection thresholds must be numbers.');
 	}
-	const vMedian = median(cells.filter((c) => isPositive(c?.volts) && c.volts >= rejectBelow).map((c) => c.volts));
+	// Rejected cells do not move the batch's medians: a dead cell says nothing about the others.
+	const vMedian = median(cells.filter((c) => isPositive(c?.volts) && c.volts >= rejectBelow && c.volts <= rejectAbove).map((c) => c.volts));
 	const rMedian = median(cells.filter((c) => isPositive(c?.resistanceMilliOhms)).map((c) => c.resistanceMilliOhms as number));
 	const qMedian = median(cells.filter((c) => isPositive(c?.capacityAh)).map((c) => c.capacityAh as number));
-	return cells.map((cell) => {
+	const limits: InspectionLimits = {
+		rejectBelowVolts: rejectBelow,
+		rejectAboveVolts: rejectAbove,
+		maxChargeVolts: chem.maxChargeVolts,
+		resistanceFactor: rFactor,
+		...(vMedian === undefined ? {} : { medianVolts: vMedian, lowVoltsBelow: vMedian - lowBy }),
+		...(rMedian === undefined ? {} : { medianResistanceMilliOhms: rMedian, highResistanceAbove: rFactor * rMedian }),
+		...(qMedian === undefined ? {} : { medianCapacityAh: qMedian, lowCapacityBelow: (1 - shortfall) * qMedian })
+	};
+	const verdicts = cells.map((cell): CellVerdict => {
 		const flags: CellFlag[] = [];
 		const volts = cell?.volts;
 		if (!isFiniteNumber(volts) || volts < 0) flags.push('missing-volts');
-		else if (volts < rejectBelow) flags.push('below-reject-volts');
-		else {
-			if (volts > rejectAbove) flags.push('above-max-volts');
-			if (vMedian !== undefined && volts < vMedian - lowBy) flags.push('low-volts');
-		}
-		if (rMedian !== undefined && isPositive(cell?.resistanceMilliOhms) && cell.resistanceMilliOhms > rFactor * rMedian) {
+		else if (volts < rejectBelow) flags.push('over-discharged');
+		else if (volts > rejectAbove) flags.push('above-max-volts');
+		else if (limits.lowVoltsBelow !== undefined && volts < limits.lowVoltsBelow) flags.push('low-volts');
+		if (limits.highResistanceAbove !== undefined && isPositive(cell?.resistanceMilliOhms) && cell.resistanceMilliOhms > limits.highResistanceAbove) {
 			flags.push('high-resistance');
 		}
-		if (qMedian !== undefined && isFiniteNumber(cell?.capacityAh) && cell.capacityAh < (1 - shortfall) * qMedian) {
+		if (limits.lowCapacityBelow !== undefined && isFiniteNumber(cell?.capacityAh) && cell.capacityAh < limits.lowCapacityBelow) {
 			flags.push('low-capacity');
 		}
-		const reject = flags.includes('below-reject-volts') || flags.includes('above-max-volts');
+		const reject = flags.includes('over-discharged') || flags.includes('above-max-volts');
 		return { id: String(cell?.id), verdict: reject ? 'reject' : flags.length ? 'suspect' : 'ok', flags };
 	});
+	return { limits, verdicts };
+}
+
+/** The verdicts of inspectBatch alone. */
+export function inspectCells(
+	chemistry: ChemistryId | Chemistry,
+	cells: ArrivalCell[],
+	options: InspectOptions = {}
+): CellVerdict[] | Failure {
+	const inspection = inspectBatch(chemistry, cells, options);
+	return 'ok' in inspection ? inspection : inspection.verdicts;
+}
+
+/**
+ * The suspect flags from least to most risky, the order in which "include suspect cells" takes
+ * them. A capacity shortfall costs range, and the matching evens it out across groups (a pack is
+ * limited by its weakest group — D. Andrea, references.md §5). High resistance makes a cell carry
+ * less than its share of the current and heat within its group (references.md §6). A low arrival
+ * voltage can mean self-discharge from an internal fault that grows worse, and a cell with no
+ * voltage reading is unknown (common practice). Set by issue 7.
+ */
+export const SUSPECT_RISK_ORDER: readonly CellFlag[] = ['low-capacity', 'high-resistance', 'low-volts', 'missing-volts'];
+
+/**
+ * How far past its threshold a suspect cell is, as a share (0 at the threshold); used to order
+ * cells that share their worst flag, the nearest to the threshold first.
+ */
+function excess(cell: ArrivalCell, flag: CellFlag, limits: InspectionLimits): number {
+	if (flag === 'low-capacity' && limits.lowCapacityBelow && isFiniteNumber(cell.capacityAh)) return 1 - cell.capacityAh / limits.lowCapacityBelow;
+	if (flag === 'high-resistance' && limits.highResistanceAbove && isFiniteNumber(cell.resistanceMilliOhms)) return cell.resistanceMilliOhms / limits.highResistanceAbove - 1;
+	if (flag === 'low-volts' && limits.lowVoltsBelow && isFiniteNumber(cell.volts)) return 1 - cell.volts / limits.lowVoltsBelow;
+	return 0;
+}
+
+export interface SuspectChoice {
+	/** The ids taken, least risky first. */
+	used: string[];
+	/** The suspect ids left out (they stay spares), least risky first. */
+	left: string[];
+}
+
+/**
+ * Picks the `count` least risky suspect cells: by their worst flag in SUSPECT_RISK_ORDER, then by
+ * how many flags they carry, then nearest their threshold; ties keep the input order. Rejected
+ * and ok cells are never picked.
+ */
+export function pickLeastRiskySuspects(
+	cells: ArrivalCell[],
+	inspection: Inspection,
+	count: number
+): SuspectChoice {
+	const byId = new Map(cells.map((c) => [String(c.id), c]));
+	const rank = (flag: CellFlag) => {
+		const r = SUSPECT_RISK_ORDER.indexOf(flag);
+		return r < 0 ? SUSPECT_RISK_ORDER.length : r;
+	};
+	const ranked = inspection.verdicts
+		.filter((v) => v.verdict === 'suspect' && byId.has(v.id))
+		.map((v, order) => {
+			const worst = v.flags.reduce((w, f) => (rank(f) > rank(w) ? f : w), v.flags[0]);
+			return { id: v.id, worst: rank(worst), flags: v.flags.length, excess: excess(byId.get(v.id)!, worst, inspection.limits), order };
+		})
+		.sort((a, b) => a.worst - b.worst || a.flags - b.flags || a.excess - b.excess || a.order - b.order)
+		.map((r) => r.id);
+	const n = Math.max(0, Math.min(ranked.length, Math.floor(count)));
+	return { used: ranked.slice(0, n), left: ranked.slice(n) };
 }
 
 export interface MatchInputCell {

@@ -43,12 +43,19 @@ export {
 	type Limits
 } from './limits';
 export {
+	absoluteMinimumVolts,
+	inspectBatch,
 	inspectCells,
 	matchCells,
+	pickLeastRiskySuspects,
+	SUSPECT_RISK_ORDER,
 	type ArrivalCell,
 	type CellFlag,
 	type CellVerdict,
+	type Inspection,
+	type InspectionLimits,
 	type InspectOptions,
+	type SuspectChoice,
 	type Match,
 	type MatchedGroup,
 	type MatchInputCell
