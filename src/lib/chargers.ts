@@ -35,3 +35,19 @@ export function channelExtrasText(channel: ChannelLimits): string {
 	if (channel.maxSeriesCells) parts.push(`up to ${channel.maxSeriesCells}S`);
 	return parts.join(' · ');
 }
+
+/**
+ * What a kind of charger does when a charge ends, where that needs saying beside its channels; null
+ * when its own charge termination ends the charge. A bench supply has no end of charge at all: in CV
+ * it holds the group at the set voltage for as long as it stays connected. "Unplug when done" is the
+ * U.S. CPSC's advice (references.md §8).
+ */
+export function chargeEndCaution(kind: ChargerKind): string | null {
+	if (kind === 'bench-supply') {
+		return 'A bench supply does not stop by itself at the end of a charge: it keeps holding the group at the set voltage until someone disconnects it. Be at the bench when each step ends, and disconnect the group or switch the supply off then.';
+	}
+	if (kind === 'pack-charger') {
+		return 'Check in its manual whether it switches off when the pack is full; some keep holding the pack at their set voltage. Unplug it when the charge is done.';
+	}
+	return null;
+}
