@@ -7,11 +7,7 @@ import { hashToken, newId, newToken } from './ids';
 import { escapeHtml, sendMail } from './mail';
 import { burnPasswordCheck, hashPassword, verifyPassword } from './auth/passwords';
 import { invalidateUserSessions } from './auth/session';
-import {
-	clearSignInFailures,
-	recordSignInFailure,
-	signInRetryAfter
-} from './auth/rate-limit';
+import { signInSucceeded, takeSignInAttempt } from './auth/rate-limit';
 import { acceptInvitationIn, createWorkshopIn } from './workshops';
 
 export const RESET_MINUTES = 60;
@@ -76,21 +72,21 @@ export type SignInResult =
 	| { ok: false; reason: 'invalid' }
 	| { ok: false; reason: 'rate-limited'; retryAfterSeconds: number };
 
-/** Checks a password; counts failures per (account, address) and per address. */
+/**
+ * Checks a password. The attempt is counted per (account, address) and per address before the
+ * check (so parallel guesses cannot slip past the limit) and refunded when the password is right.
+ */
 export async function signInWithPassword(email: string, password: string, address: string): Promise<SignInResult> {
 	const normalised = email.trim().toLowerCase();
-	const wait = await signInRetryAfter(normalised, address);
-	if (wait > 0) return { ok: false, reason: 'rate-limited', retryAfterSeconds: wait };
+	const attempt = await takeSignInAttempt(normalised, address);
+	if (!attempt.allowed) return { ok: false, reason: 'rate-limited', retryAfterSeconds: attempt.retryAfterSeconds };
 
 	const user = await findUserByEmail(normalised);
 	const valid = user?.passwordHash
 		? await verifyPassword(user.passwordHash, password)
 		: (await burnPasswordCheck(password), false);
-	if (!user || !valid) {
-		await recordSignInFailure(normalised, address);
-		return { ok: false, reason: 'invalid' };
-	}
-	await clearSignInFailures(normalised, address);
+	if (!user || !valid) return { ok: false, reason: 'invalid' };
+	await signInSucceeded(normalised, address);
 	return { ok: true, userId: user.id };
 }
 

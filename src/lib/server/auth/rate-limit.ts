@@ -1,8 +1,10 @@
 /**
  * Sign-in throttling with counters in PostgreSQL (rate-limiter-flexible, table `rate_limits`).
- * Failures count per (account, client address) — 5 in 15 minutes — so an attacker elsewhere
- * cannot lock an owner out of their own bench; a wider per-address limit stops one address
- * from trying many accounts.
+ * Attempts count per (account, client address) — 5 failures in 15 minutes — so an attacker
+ * elsewhere cannot lock an owner out of their own bench; a wider per-address limit (50 failures an
+ * hour) stops one address from trying many accounts. The client address is adapter-node's
+ * `getClientAddress()`: behind a proxy, set ADDRESS_HEADER / XFF_DEPTH (docs/configuration.md),
+ * or every client shares the proxy's address and its allowance.
  */
 import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { sqlClient } from '../db';
@@ -39,30 +41,44 @@ const byAddress = limiter('signin-addr', ADDRESS_FAILURES, ADDRESS_WINDOW_SECOND
 
 const pairKey = (email: string, address: string) => `${email.toLowerCase()}|${address}`;
 
-/** Seconds to wait before another sign-in attempt, or 0 when one is allowed now. */
-export async function signInRetryAfter(email: string, address: string): Promise<number> {
-	const [pair, addr] = await Promise.all([byPair.get(pairKey(email, address)), byAddress.get(address)]);
-	const waits = [
-		blockedFor(pair, PAIR_FAILURES),
-		blockedFor(addr, ADDRESS_FAILURES)
-	];
-	return Math.max(...waits);
+export type SignInAttempt = { allowed: true } | { allowed: false; retryAfterSeconds: number };
+
+/**
+ * Takes one attempt from the pair's and the address's allowance BEFORE the password is checked.
+ * The counters rise atomically in PostgreSQL (one upsert each), so parallel guesses cannot all
+ * read "4 so far" and all be checked: of any number sent at once, at most PAIR_FAILURES get
+ * `allowed`. A refused attempt gives back what it took from the other counter, so the counters
+ * keep meaning "attempts that reached a password check". Report the outcome with
+ * `signInSucceeded` (refunds) — a failure needs nothing more, its point is already spent.
+ */
+export async function takeSignInAttempt(email: string, address: string): Promise<SignInAttempt> {
+	const key = pairKey(email, address);
+	const pair = await consumed(byPair.consume(key));
+	if (!pair.ok) return { allowed: false, retryAfterSeconds: retryAfter(pair.res) };
+	const addr = await consumed(byAddress.consume(address));
+	if (!addr.ok) {
+		await byPair.reward(key, 1);
+		return { allowed: false, retryAfterSeconds: retryAfter(addr.res) };
+	}
+	return { allowed: true };
 }
 
-function blockedFor(res: RateLimiterRes | null, points: number): number {
-	if (!res || res.consumedPoints < points) return 0;
+/** A right password: the pair's failures are cleared, and the address gets its attempt back. */
+export async function signInSucceeded(email: string, address: string): Promise<void> {
+	await Promise.all([byPair.delete(pairKey(email, address)), byAddress.reward(address, 1)]);
+}
+
+/** rate-limiter-flexible rejects with a RateLimiterRes when over the limit, with an Error on failure. */
+async function consumed(p: Promise<RateLimiterRes>): Promise<{ ok: true } | { ok: false; res: RateLimiterRes }> {
+	try {
+		await p;
+		return { ok: true };
+	} catch (e) {
+		if (e instanceof RateLimiterRes) return { ok: false, res: e };
+		throw e;
+	}
+}
+
+function retryAfter(res: RateLimiterRes): number {
 	return Math.max(1, Math.ceil(res.msBeforeNext / 1000));
-}
-
-/** Counts one failed sign-in for the pair and the address. */
-export async function recordSignInFailure(email: string, address: string): Promise<void> {
-	await Promise.all([
-		byPair.penalty(pairKey(email, address), 1),
-		byAddress.penalty(address, 1)
-	]);
-}
-
-/** A successful sign-in clears the pair's failures (not the address's). */
-export async function clearSignInFailures(email: string, address: string): Promise<void> {
-	await byPair.delete(pairKey(email, address));
 }
