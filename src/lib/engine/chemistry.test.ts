@@ -18,7 +18,7 @@ describe('chemistry limits', () => {
 		expect(c.minVolts).toBe(minimal);
 	});
 
-	it.each(Object.keys(chemistries) as ChemistryId[])('%s: charge 0–45 °C, discharge −20–60 °C (BU-410), termination 0.05C (BU-808), 25 %% in CV at 1C (BU-409, TI)', (id) => {
+	it.each(Object.keys(chemistries) as ChemistryId[])('%s: charge 0–45 °C, discharge −20–60 °C (BU-410), termination 0.05C (BU-808), 25 per cent in CV at 1C (BU-409, TI)', (id) => {
 		const c = chemistries[id];
 		expect(c.chargeTempC).toEqual({ min: 0, max: 45 }); // BU-410
 		expect(c.dischargeTempC).toEqual({ min: -20, max: 60 }); // BU-410

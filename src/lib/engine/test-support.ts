@@ -1,6 +1,60 @@
 // Shared by the engine's tests only (never imported by the engine): a seeded PRNG, exact optima
-// from the yalps MIP solver as an outside reference, and a scan for NaN or negative numbers.
+// from the yalps MIP solver as an outside reference, a scan for NaN or negative numbers, and the
+// published rest curves written out again from references.md §2 (not imported from chemistry.ts),
+// so an ODE reference model does not lean on the engine's own curve code.
 import { solve, type Model } from 'yalps';
+
+/**
+ * Rest voltage ↔ soc tables as published (references.md §2), copied here by hand: (soc, volts).
+ * - nmc: Sunil, Pattipati & Balasingam, IEEE TIM 2025, NMC 21700 at C/20;
+ * - lfp: the same paper, LFP 18650 at C/32;
+ * - liIon: Zephyr RTOS battery.h "Li-ion" (NCA 18650), 0 %, 10 %, … 100 %.
+ * No published LTO or LMO/LCO table exists (references.md §2).
+ */
+export const publishedRestCurves: Record<'nmc' | 'lfp' | 'liIon', readonly (readonly [number, number])[]> = {
+	nmc: [[0, 2.5], [0.005, 2.808], [0.0352, 3.1179], [0.0854, 3.3182], [0.1357, 3.4193], [0.2915, 3.5826], [0.4523, 3.6941], [0.8392, 4.0664], [0.9548, 4.1121], [1, 4.2]],
+	lfp: [[0, 2.0102], [0.0033, 2.4177], [0.0117, 2.7405], [0.0267, 2.9299], [0.0534, 3.0872], [0.0885, 3.1942], [0.2972, 3.2772], [0.9833, 3.3511], [0.995, 3.418], [1, 3.5981]],
+	liIon: [2.502, 3.146, 3.372, 3.449, 3.532, 3.602, 3.68, 3.764, 3.842, 3.936, 4.032].map((v, i) => [i / 10, v] as const)
+};
+
+/** Volts at `soc` by straight lines between a published table's points (clamped at its ends). */
+export function tableVolts(table: readonly (readonly [number, number])[], soc: number): number {
+	if (soc <= table[0][0]) return table[0][1];
+	for (let i = 1; i < table.length; i++) {
+		const [s1, v1] = table[i];
+		if (s1 >= soc) {
+			const [s0, v0] = table[i - 1];
+			return v0 + ((soc - s0) / (s1 - s0)) * (v1 - v0);
+		}
+	}
+	return table[table.length - 1][1];
+}
+
+/** Soc at `volts` by straight lines between a published table's points (tables rise strictly). */
+export function tableSoc(table: readonly (readonly [number, number])[], volts: number): number {
+	if (volts <= table[0][1]) return table[0][0];
+	for (let i = 1; i < table.length; i++) {
+		const [s1, v1] = table[i];
+		if (v1 >= volts) {
+			const [s0, v0] = table[i - 1];
+			return s0 + ((volts - v0) / (v1 - v0)) * (s1 - s0);
+		}
+	}
+	return table[table.length - 1][0];
+}
+
+/**
+ * For properties that skip some generated cases (a refusal, a solver with no answer): counts the
+ * cases that ran to the end, so the test can fail when too few did and the property proved little.
+ */
+export class RunCounter {
+	ran = 0;
+	skipped = 0;
+	/** At least `share` of all cases (ran + skipped) ran their checks. */
+	enough(share: number): boolean {
+		return this.ran > 0 && this.ran >= share * (this.ran + this.skipped);
+	}
+}
 
 /** mulberry32: a small seeded PRNG (public domain), so random cases repeat. */
 export function prng(seed: number): () => number {
