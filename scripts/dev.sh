@@ -23,7 +23,8 @@ main() {
 
 	export DATABASE_URL
 	DATABASE_URL="$(bash scripts/pg.sh url)"
-	export BODY_SIZE_LIMIT=12M CELLSITTER_DATA_DIR="$DATA_DIR"
+	# Links in e-mails (reset, invitation) are built from ORIGIN: vite's own address.
+	export ORIGIN=http://127.0.0.1:5173 BODY_SIZE_LIMIT=12M CELLSITTER_DATA_DIR="$DATA_DIR"
 	export CELLSITTER_FAKES=1 FAKES_URL="http://127.0.0.1:$FAKES_HTTP_PORT" SMTP_URL="smtp://127.0.0.1:$FAKES_SMTP_PORT"
 	export CELLSITTER_DEMO=1 CELLSITTER_DEMO_PASSWORD="$password"
 

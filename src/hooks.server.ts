@@ -1,5 +1,6 @@
 import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
+import { dev } from '$app/environment';
 import {
 	clearSessionCookie,
 	sessionCookieName,
@@ -8,16 +9,26 @@ import {
 } from '$lib/server/auth/session';
 import { closeDb } from '$lib/server/db';
 import { loadDemoIfEmpty } from '$lib/server/demo';
-import { serverEnv } from '$lib/server/env';
+import { checkPublicOrigin, serverEnv } from '$lib/server/env';
+import { startJobs, stopJobs } from '$lib/server/jobs/registry';
 import { applyMigrations } from '$lib/server/migrate';
 
 export const init: ServerInit = async () => {
 	const env = serverEnv();
+	// Before anything else: without a known origin, links in e-mails cannot be trusted.
+	checkPublicOrigin({ dev });
 	await applyMigrations();
 	if (env.CELLSITTER_DEMO && env.CELLSITTER_DEMO_PASSWORD) {
 		if (await loadDemoIfEmpty(env.CELLSITTER_DEMO_PASSWORD)) console.log('Loaded the demo workshop.');
 	}
-	process.once('sveltekit:shutdown', () => void closeDb());
+	// Jobs run here unless a separate `npm run worker` does them (CELLSITTER_JOBS=off).
+	await startJobs(env.CELLSITTER_JOBS === 'off' ? 'send-only' : 'work');
+	process.once('sveltekit:shutdown', () => {
+		// Running jobs finish first; then both pools close and the process can exit.
+		void stopJobs()
+			.catch((e) => console.error('stopping jobs:', e))
+			.finally(() => closeDb());
+	});
 };
 
 const handleAuth: Handle = async ({ event, resolve }) => {

@@ -24,6 +24,8 @@ export default async function setup() {
 	process.env.CELLSITTER_FAKES = '1';
 	process.env.SMTP_URL = fakes.smtpUrl;
 	process.env.FAKES_URL = fakes.httpUrl;
+	// Links in e-mails come from ORIGIN (publicOrigin); scripts/test.sh sets it, a bare vitest may not.
+	process.env.ORIGIN ||= 'http://127.0.0.1:3100';
 
 	return async () => {
 		await fakes.close();

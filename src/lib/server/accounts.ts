@@ -4,7 +4,10 @@ import { db } from './db';
 import { isUniqueViolation } from './db/errors';
 import { oauthAccounts, oauthPending, passwordResetTokens, users, type Workshop } from './db/schema';
 import { hashToken, newId, newToken } from './ids';
-import { escapeHtml, sendMail } from './mail';
+import { mailServerReady } from './mail';
+import { publicOrigin } from './env';
+import { enqueue } from './jobs/boss';
+import { consumeResetRequest } from './auth/reset-rate-limit';
 import { burnPasswordCheck, hashPassword, verifyPassword } from './auth/passwords';
 import { invalidateUserSessions } from './auth/session';
 import { signInSucceeded, takeSignInAttempt } from './auth/rate-limit';
@@ -90,30 +93,24 @@ export async function signInWithPassword(email: string, password: string, addres
 	return { ok: true, userId: user.id };
 }
 
-/** E-mails a single-use reset link when the address has an account; silent otherwise. */
-export async function requestPasswordReset(email: string, origin: string, now = new Date()): Promise<void> {
-	const user = await findUserByEmail(email);
-	if (!user) return;
-	const token = newToken();
-	await db.insert(passwordResetTokens).values({
-		tokenHash: hashToken(token),
-		userId: user.id,
-		expiresAt: new Date(now.getTime() + RESET_MINUTES * 60_000)
-	});
-	const link = `${origin}/reset/${token}`;
-	await sendMail({
-		to: user.email,
-		subject: 'Reset your Cellsitter password',
-		text:
-			`Someone asked to reset the password of your Cellsitter account.\n\n` +
-			`Open this link within ${RESET_MINUTES} minutes to choose a new one (it works once):\n${link}\n\n` +
-			`If it was not you, ignore this message: your password stays as it is.`,
-		html:
-			`<p>Someone asked to reset the password of your Cellsitter account.</p>` +
-			`<p><a href="${link}">Choose a new password</a> within ${RESET_MINUTES} minutes (the link works once).</p>` +
-			`<p>If it was not you, ignore this message: your password stays as it is.</p>` +
-			`<p style="color:#6b655d">${escapeHtml(user.email)}</p>`
-	});
+export type ResetRequestResult =
+	| { ok: true }
+	| { ok: false; reason: 'mail-unavailable' }
+	| { ok: false; reason: 'rate-limited'; retryAfterSeconds: number };
+
+/**
+ * Takes a reset request: checks that mail can go out, counts it per e-mail and per client
+ * address, and queues the mail job (jobs/password-reset-mail.ts), which looks the account up.
+ * Known and unknown addresses take exactly this same path, so the answer and its time tell
+ * nothing about who has an account.
+ */
+export async function requestPasswordReset(email: string, address: string, now = new Date()): Promise<ResetRequestResult> {
+	const normalised = email.trim().toLowerCase();
+	if (!(await mailServerReady())) return { ok: false, reason: 'mail-unavailable' };
+	const wait = await consumeResetRequest(normalised, address);
+	if (wait > 0) return { ok: false, reason: 'rate-limited', retryAfterSeconds: wait };
+	await enqueue('password-reset-mail', { email: normalised, origin: publicOrigin(), requestedAt: now.toISOString() });
+	return { ok: true };
 }
 
 /** True while the reset link is unused and unexpired. */

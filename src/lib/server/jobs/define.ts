@@ -1,0 +1,17 @@
+import type PgBoss from 'pg-boss';
+
+/**
+ * One kind of background job: what its queue keeps, when it runs by itself, what it does.
+ * `handle` gets one job's data; throwing fails the job and pg-boss retries it per `options`.
+ */
+export type JobDefinition<T extends object> = {
+	options?: Omit<PgBoss.Queue, 'name'>;
+	/** Cron (5 fields, UTC unless tz) for jobs that run on a clock rather than on demand. */
+	schedule?: { cron: string; tz?: string; data?: T };
+	handle: (data: T) => Promise<unknown>;
+};
+
+/** Gives a job definition its data type; the queue's name is its key in registry.ts. */
+export function defineJob<T extends object>(definition: JobDefinition<T>): JobDefinition<T> {
+	return definition;
+}
