@@ -9,7 +9,9 @@ import type { Actions, PageServerLoad } from './$types';
 
 const linkErrors: Record<string, string> = {
 	'linked-elsewhere': 'That provider account is already linked to another Cellsitter account.',
-	'provider-already-linked': 'You already linked another account of that provider. Unlink it first.'
+	'provider-already-linked': 'You already linked another account of that provider. Unlink it first.',
+	'oauth-failed': 'The provider did not let us link it. Try again in a moment.',
+	'no-email': 'The provider did not share a verified e-mail address, so it was not linked.'
 };
 
 export const load: PageServerLoad = async ({ locals, url }) => {

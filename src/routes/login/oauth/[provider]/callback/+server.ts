@@ -5,7 +5,7 @@ import {
 	holdPendingOAuth,
 	linkOAuthAccount
 } from '$lib/server/accounts';
-import { finishAuthorization, providerInfo, type Identity } from '$lib/server/auth/oauth';
+import { OAuthFailed, finishAuthorization, providerInfo, type Identity } from '$lib/server/auth/oauth';
 import { createSession, isSecureContext, setSessionCookie } from '$lib/server/auth/session';
 import { safeNext } from '$lib/schemas/auth';
 import type { RequestHandler } from './$types';
@@ -25,17 +25,18 @@ export const GET: RequestHandler = async ({ params, url, cookies, locals }) => {
 	for (const name of ['oauth_state', 'oauth_verifier', 'oauth_intent', 'oauth_next']) {
 		cookies.delete(name, { path: '/login/oauth' });
 	}
+	// A failed link goes back to the account page (a signed-in visit to /login would drop the notice).
+	const failed = (reason: 'oauth-failed' | 'no-email') =>
+		intent === 'link' && locals.user ? `/account?link-error=${reason}` : `/login?notice=${reason}`;
 	const code = url.searchParams.get('code');
-	if (!code || !state || !verifier || url.searchParams.get('state') !== state) {
-		redirect(303, '/login?notice=oauth-failed');
-	}
+	if (!code || !state || !verifier || url.searchParams.get('state') !== state) redirect(303, failed('oauth-failed'));
 
 	let identity: Identity;
 	try {
 		identity = await finishAuthorization(provider.id, url.origin, code, verifier);
 	} catch (e) {
-		console.error(`oauth ${provider.id} failed`, e);
-		redirect(303, '/login?notice=oauth-failed');
+		console.error(`oauth ${provider.id} failed:`, e instanceof Error ? e.message : e);
+		redirect(303, failed(e instanceof OAuthFailed && e.reason === 'no-email' ? 'no-email' : 'oauth-failed'));
 	}
 
 	if (intent === 'link') {
