@@ -41,8 +41,8 @@ export const chemistryProfileSchema = z
 	.object({
 		name: z.string().trim().min(1, 'Name the profile, for example after the cell it comes from.').max(80, 'Use at most 80 characters.'),
 		family: z.enum(chemistryFamilies, 'Choose the family.'),
-		minVolts: volts('minimum voltage'),
-		fullDischargeVolts: volts('full-discharge voltage'),
+		minVolts: volts('absolute minimum voltage'),
+		fullDischargeVolts: volts('discharge cut-off voltage'),
 		nominalVolts: volts('nominal voltage'),
 		maxChargeVolts: volts('maximum charge voltage'),
 		storageVolts: volts('storage voltage'),
@@ -51,7 +51,7 @@ export const chemistryProfileSchema = z
 		dischargeTempMinC: celsius('lowest discharge temperature'),
 		dischargeTempMaxC: celsius('highest discharge temperature'),
 		defaultChargeC: z
-			.number('Enter the usual charge rate in C.')
+			.number('Enter the datasheet’s standard charge rate in C.')
 			.positive('The charge rate must be more than 0 C.')
 			.max(20, 'The charge rate must be at most 20 C.'),
 		terminationC: z
@@ -66,21 +66,23 @@ export const chemistryProfileSchema = z
 			.array(restPointSchema, 'Add the rest-voltage points.')
 			.min(2, 'The rest-voltage table needs at least two points.')
 			.max(MAX_REST_POINTS, `Use at most ${MAX_REST_POINTS} rest-voltage points.`),
-		source: z.string().trim().max(500, 'Keep the source under 500 characters.').default('')
+		source: z.string().trim().max(500, 'Keep the source under 500 characters.').default(''),
+		/** Ticked when the profile charges past its family's usual limits (beyondUsualLimits, chemistry-form.ts). */
+		datasheetAllows: z.boolean().optional()
 	})
 	.superRefine((p, ctx) => {
 		const problem = (path: (string | number)[], message: string) => ctx.addIssue({ code: 'custom', path, message });
 		if (p.fullDischargeVolts < p.minVolts) {
-			problem(['fullDischargeVolts'], 'The full-discharge voltage cannot be below the minimum voltage.');
+			problem(['fullDischargeVolts'], 'The discharge cut-off cannot be below the absolute minimum voltage.');
 		}
 		if (p.nominalVolts <= p.fullDischargeVolts) {
-			problem(['nominalVolts'], 'The nominal voltage must be above the full-discharge voltage.');
+			problem(['nominalVolts'], 'The nominal voltage must be above the discharge cut-off.');
 		}
 		if (p.maxChargeVolts <= p.nominalVolts) {
 			problem(['maxChargeVolts'], 'The maximum charge voltage must be above the nominal voltage.');
 		}
 		if (p.storageVolts < p.fullDischargeVolts || p.storageVolts > p.maxChargeVolts) {
-			problem(['storageVolts'], 'The storage voltage must lie between the full-discharge and the maximum charge voltage.');
+			problem(['storageVolts'], 'The storage voltage must lie between the discharge cut-off and the maximum charge voltage.');
 		}
 		if (p.chargeTempMaxC <= p.chargeTempMinC) {
 			problem(['chargeTempMaxC'], 'The highest charging temperature must be above the lowest.');

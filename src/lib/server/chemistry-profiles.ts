@@ -11,9 +11,10 @@ import {
 	resolveChemistry,
 	type Chemistry,
 	type ChemistryFamily,
-	type ChemistryId,
-	type Failure
+	type ChemistryId
 } from '$lib/engine';
+import { beyondUsualLimits, datasheetConfirmationMessage } from '$lib/chemistry-form';
+import { plainEngineMessage } from '$lib/engine-words';
 import { socFromPercent, type ChemistryProfileInput } from '$lib/schemas/chemistry';
 import { requirePermission, type Member } from './auth/permissions';
 import { db } from './db';
@@ -43,19 +44,13 @@ export type ChemistryRef = { chemistryId?: string | null; chemistryProfileId?: s
 
 export type ProfileWriteResult =
 	| { ok: true; profile: ChemistryProfile }
-	| { ok: false; reason: 'name-taken' | 'invalid-chemistry'; message: string };
+	| { ok: false; reason: 'name-taken' | 'invalid-chemistry' | 'needs-datasheet'; message: string };
 
 export type ProfileDeleteResult = { ok: true } | { ok: false; reason: 'in-use'; message: string };
 
 export type ChemistryProfileDetail = ChemistryProfile & { updatedByName: string | null; usedBySpecs: string[] };
 
 const builtInIds = Object.keys(chemistries) as ChemistryId[];
-
-/** The engine's own failure text (its field is `detail`; older drafts called it `message`). */
-function failureText(failure: Failure): string {
-	const text = failure.detail ?? (failure as { message?: unknown }).message;
-	return typeof text === 'string' && text ? text : 'The engine cannot use this profile.';
-}
 
 /** A profile row as the engine's Chemistry; its curve is the datasheet's, so not marked approximate. */
 export function toEngineChemistry(row: ChemistryProfile): Chemistry {
@@ -100,11 +95,25 @@ function columns(input: ChemistryProfileInput) {
 	};
 }
 
-/** The engine's verdict on a profile before it is saved: null when usable, else why not. */
+/** The engine's verdict on a profile before it is saved: null when usable, else why not, in the form's words. */
 function engineRefusal(values: ReturnType<typeof columns>): string | null {
 	const draft = toEngineChemistry({ ...values, id: 'draft' } as ChemistryProfile);
 	const resolved = resolveChemistry(draft);
-	return 'ok' in resolved ? failureText(resolved) : null;
+	return 'ok' in resolved ? plainEngineMessage(resolved) : null;
+}
+
+/**
+ * Why a profile may not be saved as it stands: the engine cannot use it, or it charges past its
+ * family's usual limits (or below 0 °C) without the builder confirming the datasheet allows it.
+ */
+function refusal(input: ChemistryProfileInput, values: ReturnType<typeof columns>): ProfileWriteResult | null {
+	const engine = engineRefusal(values);
+	if (engine) return { ok: false, reason: 'invalid-chemistry', message: engine };
+	const beyond = beyondUsualLimits(input);
+	if (beyond.length && input.datasheetAllows !== true) {
+		return { ok: false, reason: 'needs-datasheet', message: datasheetConfirmationMessage(beyond) };
+	}
+	return null;
 }
 
 function builtInOption(id: ChemistryId): ChemistryOption {
@@ -175,8 +184,8 @@ const nameTaken = (name: string) =>
 export async function createChemistryProfile(member: Member, input: ChemistryProfileInput): Promise<ProfileWriteResult> {
 	requirePermission(member, 'specs.edit');
 	const values = columns(input);
-	const refusal = engineRefusal(values);
-	if (refusal) return { ok: false, reason: 'invalid-chemistry', message: refusal };
+	const refused = refusal(input, values);
+	if (refused) return refused;
 	const [profile] = await db
 		.insert(chemistryProfiles)
 		.values({ id: newId(), workshopId: member.workshop.id, ...values, createdBy: member.user.id, updatedBy: member.user.id })
@@ -193,8 +202,8 @@ export async function updateChemistryProfile(
 ): Promise<ProfileWriteResult> {
 	requirePermission(member, 'specs.edit');
 	const values = columns(input);
-	const refusal = engineRefusal(values);
-	if (refusal) return { ok: false, reason: 'invalid-chemistry', message: refusal };
+	const refused = refusal(input, values);
+	if (refused) return refused;
 	try {
 		const [profile] = await db
 			.update(chemistryProfiles)

@@ -43,9 +43,10 @@ export const actions: Actions = {
 		if (!form.valid) return fail(400, { form });
 		const result = await updateChemistryProfile(member, params.profileId, form.data);
 		if (!result.ok) {
-			return result.reason === 'name-taken'
-				? setError(form, 'name', result.message)
-				: setError(form, '', `The engine cannot use this profile: ${result.message}`);
+			if (result.reason === 'name-taken') return setError(form, 'name', result.message);
+			// Past the family's usual limits without the datasheet confirmation: 400, beside the checkbox.
+			if (result.reason === 'needs-datasheet') return setError(form, 'datasheetAllows', result.message);
+			return setError(form, '', `Cellsitter cannot use this profile: ${result.message}`);
 		}
 		redirect(303, `/w/${member.workshop.slug}/chemistries`);
 	},
