@@ -1,9 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { estimateCharge } from './charge';
-import type { PlanGroup } from './plan-common';
 import { planOneAtATime, type OneAtATimeInput } from './plan-one';
-import { at, firstBadNumber, stepsStartingUnattended } from './test-support';
+import { at, firstBadNumber, RunCounter, stepsStartingUnattended } from './test-support';
 
 const H = 3_600_000;
 const hoursBetween = (a: Date, b: Date) => (b.getTime() - a.getTime()) / H;
@@ -14,11 +12,28 @@ function plan(input: OneAtATimeInput) {
 	return r;
 }
 
-function hoursOf(group: PlanGroup, amps: number, setVolts = 4.2) {
-	const r = estimateCharge({ chemistry: 'nmc', capacityAh: group.capacityAh, startVolts: group.startVolts, startSoc: group.startSoc, amps, setVolts });
-	if (!r.ok) throw new Error(r.reason);
-	return r.totalHours;
-}
+// Step hours worked by hand (NMC to 4.20 V; constants from outside the code: 25 % of the charge in
+// CV at 1C — BU-409/TI; termination 0.05C — BU-808; k = 1.75, fitted by hand in calibration.test.ts).
+// Start soc from the IEEE TIM 2025 NMC table (references.md §2):
+//   3.3 V: 0.0352 + 0.0502 × (3.3 − 3.1179) / 0.2003 = 0.080839
+//   3.5 V: 0.1357 + 0.1558 × (3.5 − 3.4193) / 0.1633 = 0.212694
+//   3.6 V: 0.2915 + 0.1608 × (3.6 − 3.5826) / 0.1115 = 0.316593
+// A group of Q Ah at I A: CC to 1 − 0.25·I/Q, so the CV charge is always 0.25 × I × 1 h;
+// CV hours = 1.75 × 0.25·I × ln(I / 0.05Q) / (I − 0.05Q).
+const HAND = {
+	// 20 Ah at 5 A from 3.5 V: CC (0.9375 − 0.212694) × 20 / 5 = 2.899225; CV 2.1875 × ln 5 / 4 = 0.880161
+	g20at5: 3.779387,
+	// 16 Ah at 5 A from 3.5 V: CC (0.921875 − 0.212694) × 16 / 5 = 2.269380; CV 2.1875 × ln 6.25 / 4.2 = 0.954470
+	g16at5: 3.22385,
+	// 12 Ah at 5 A from 3.5 V: CC (0.895833 − 0.212694) × 12 / 5 = 1.639535; CV 2.1875 × ln 8.3333 / 4.4 = 1.054108
+	g12at5: 2.693644,
+	// 16 Ah at 2 A from 3.3 V: CC (0.96875 − 0.080839) × 16 / 2 = 7.103291; CV 0.875 × ln 2.5 / 1.2 = 0.668129
+	long16at2: 7.77142,
+	// 4 Ah at 2 A from 3.5 V: CC (0.875 − 0.212694) × 4 / 2 = 1.324613; CV 0.875 × ln 10 / 1.8 = 1.119312
+	short4at2: 2.443925,
+	// 16 Ah at 10 A from 3.6 V: CC (0.84375 − 0.316593) × 16 / 10 = 0.843450; CV 4.375 × ln 12.5 / 9.2 = 1.201094
+	g16at10: 2.044544
+};
 
 const supply = { id: 'bench', maxAmps: 10, maxVolts: 30 };
 
@@ -41,8 +56,13 @@ describe('planOneAtATime', () => {
 	it('with someone always there: total = sum of the steps + the swaps between them', () => {
 		const groups = [20, 16, 12].map((capacityAh, i) => ({ id: `g${i}`, capacityAh, startVolts: 3.5, maxChargeAmps: 5 }));
 		const r = plan({ chemistry: 'nmc', groups, setVolts: 4.2, start: at(0), channel: supply, swapMinutes: 10 });
-		const sum = groups.reduce((s, g) => s + hoursOf(g, 5), 0);
-		expect(r.totalHours).toBeCloseTo(sum + 2 * (10 / 60), 6);
+		// 3.779387 + 3.223850 + 2.693644 = 9.696881 h of steps + 2 swaps × 10 min = 10.030214 h
+		expect(r.steps.map((s) => hoursBetween(s.start, s.end))).toEqual([
+			expect.closeTo(HAND.g20at5, 5),
+			expect.closeTo(HAND.g16at5, 5),
+			expect.closeTo(HAND.g12at5, 5)
+		]);
+		expect(r.totalHours).toBeCloseTo(10.030214, 5);
 		expect(r.steps.map((s) => s.groupId)).toEqual(['g0', 'g1', 'g2']); // input order kept when nothing is gained
 	});
 
@@ -50,26 +70,25 @@ describe('planOneAtATime', () => {
 		const long = { id: 'long', capacityAh: 16, startVolts: 3.3, maxChargeAmps: 2 };
 		const b = { id: 'b', capacityAh: 4, startVolts: 3.5, maxChargeAmps: 2 };
 		const c = { id: 'c', capacityAh: 4, startVolts: 3.5, maxChargeAmps: 2 };
-		const L = hoursOf(long, 2);
-		const s = hoursOf(b, 2);
-		expect(s).toBeGreaterThan(0.5);
-		expect(L).toBeGreaterThan(s + 0.5);
+		const L = HAND.long16at2; // 7.77142 h
+		const s = HAND.short4at2; // 2.443925 h
 		// Windows [0, s + 0.5) and [s + L, 3s + L + 1): b fills the first window, the long step ends
 		// exactly as the second opens, c follows: end 2s + L and no hold. Long first ends 3s + L;
 		// both short steps first end 2s + 2L.
+		// 2s + L = 2 × 2.443925 + 7.77142 = 12.65927 h.
 		const handsOn = [
 			{ start: at(0), end: at(s + 0.5) },
 			{ start: at(s + L), end: at(3 * s + L + 1) }
 		];
 		const r = plan({ chemistry: 'nmc', groups: [long, b, c], setVolts: 4.2, start: at(0), channel: supply, handsOn });
-		expect(r.totalHours).toBeCloseTo(2 * s + L, 4);
+		expect(r.totalHours).toBeCloseTo(12.65927, 4);
 		expect(r.steps.map((x) => x.groupId)).toEqual(['b', 'long', 'c']);
 		expect(r.steps.every((x) => x.unattendedHoldHours < 1e-6)).toBe(true);
 	});
 
 	it('a step that ends with nobody there holds the group until the next window and says so, calmly and specifically', () => {
 		const group = { id: 'G3', capacityAh: 16, startVolts: 3.6, maxChargeAmps: 10 };
-		const hours = hoursOf(group, 10);
+		const hours = HAND.g16at10; // 2.044544 h
 		// Someone is there 20:00–21:00 and from 07:00 the next day.
 		const handsOn = [
 			{ start: at(20), end: at(21) },
@@ -77,13 +96,15 @@ describe('planOneAtATime', () => {
 		];
 		const r = plan({ chemistry: 'nmc', groups: [group], setVolts: 4.2, start: at(20), channel: supply, handsOn });
 		const [step] = r.steps;
-		expect(hoursBetween(step.start, step.end)).toBeCloseTo(hours, 6);
-		expect(step.unattendedHoldHours).toBeCloseTo(31 - 20 - hours, 6);
-		expect(step.unattendedChargeHours).toBeCloseTo(hours - 1, 6);
+		expect(hoursBetween(step.start, step.end)).toBeCloseTo(hours, 5);
+		// Ends 22:02.7; nobody until 07:00: held 11 − 2.044544 = 8.955456 h, of which none charging;
+		// charging with nobody there from 21:00: 2.044544 − 1 = 1.044544 h.
+		expect(step.unattendedHoldHours).toBeCloseTo(8.955456, 5);
+		expect(step.unattendedChargeHours).toBeCloseTo(1.044544, 5);
 		const w = r.warnings.find((x) => x.code === 'unattended-hold');
 		expect(w?.groupId).toBe('G3');
-		expect(w?.message).toContain(`${(31 - 20 - hours).toFixed(1)} h`); // how long it sat
-		expect(w?.message).toContain(`${(hours - 1).toFixed(1)} h`); // how long it charged unattended
+		expect(w?.message).toContain('9.0 h'); // how long it sat
+		expect(w?.message).toContain('1.0 h'); // how long it charged unattended
 		expect(w?.message).toMatch(/lower set voltage/);
 		expect(w?.message).toMatch(/4\.10 V/);
 		expect(w?.message).toMatch(/timer/);
@@ -122,6 +143,7 @@ describe('planOneAtATime', () => {
 	it('properties (fast-check): every step starts inside a hands-on window, one at a time, each group once, no NaN or negative', () => {
 		const groupArb = fc.record({ capacityAh: fc.double({ min: 1, max: 300, noNaN: true }), startSoc: fc.double({ min: 0, max: 0.99, noNaN: true }) });
 		const windowsArb = fc.array(fc.tuple(fc.double({ min: 0, max: 20, noNaN: true }), fc.double({ min: 0.2, max: 10, noNaN: true })), { minLength: 1, maxLength: 6 });
+		const runs = new RunCounter();
 		fc.assert(
 			fc.property(fc.array(groupArb, { minLength: 1, maxLength: 8 }), windowsArb, fc.integer({ min: 0, max: 30 }), fc.constantFrom('nmc', 'lfp', 'lto'), (gs, ws, swap, chem) => {
 				// Windows every day for a month, so every plan can finish.
@@ -131,8 +153,10 @@ describe('planOneAtATime', () => {
 				const r = planOneAtATime({ chemistry: chem, groups, setVolts, start: at(0), channel: { id: 'c', maxAmps: 20, maxVolts: 5 }, swapMinutes: swap, handsOn });
 				if (!r.ok) {
 					expect(r.reason).toBe('hands-on-too-short');
+					runs.skipped++;
 					return;
 				}
+				runs.ran++;
 				expect(firstBadNumber(r)).toBeNull();
 				expect(stepsStartingUnattended(r.steps, handsOn)).toEqual([]);
 				for (let i = 1; i < r.steps.length; i++) {
@@ -142,5 +166,7 @@ describe('planOneAtATime', () => {
 			}),
 			{ numRuns: 40 }
 		);
+		// A refusal proves nothing about the steps: most generated cases must have produced a plan.
+		expect(runs.enough(0.75)).toBe(true);
 	});
 });
