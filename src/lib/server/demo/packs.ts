@@ -33,6 +33,17 @@ function batch(prefix: string, n: number, rand: () => number, v: [number, number
 
 type People = { owner: string; builder: string; technician: string; viewer: string };
 
+/**
+ * The demo packs' notes. A night charge in them always has someone awake on watch (demo-scenario.md):
+ * the demo must never show a charge left alone.
+ */
+export const demoPackNotes = {
+	trike:
+		'First top balance ran overnight on the four-channel charger, three or four groups at a time, with the technician awake on a night watch at the bench and readings every hour.',
+	camper:
+		'Bulk charged, then topped up one cell at a time with the bench supply, only within the hands-on hours 07:00–23:00 while someone is at the bench.'
+};
+
 export async function loadDemoPacks(tx: Tx, workshopId: string, people: People): Promise<void> {
 	const rand = seeded(20261202);
 	const by = { createdBy: people.builder, updatedBy: people.builder };
@@ -49,13 +60,13 @@ export async function loadDemoPacks(tx: Tx, workshopId: string, people: People):
 	trikeCells[16] = { ...trikeCells[16], volts: 3.21 };
 	trikeCells[41] = { ...trikeCells[41], volts: 3.3 };
 	await addPack(tx, workshopId, people, {
-		pack: { name: 'Cargo trike pack', cellSpecId: nmc.id, series: 13, parallel: 4, status: 'in-service', packOwnerId: people.viewer, bmsFitted: true, bmsBalanceAmps: 0.05, measuredPeakAmps: 38, measuredPeakNote: 'Clamp meter on the main lead, full load up the hill on Quarry Lane', notes: 'First top balance overnight on the four-channel charger, three or four groups at a time.' },
+		pack: { name: 'Cargo trike pack', cellSpecId: nmc.id, series: 13, parallel: 4, status: 'in-service', packOwnerId: people.viewer, bmsFitted: true, bmsBalanceAmps: 0.05, measuredPeakAmps: 38, measuredPeakNote: 'Clamp meter on the main lead, full load up the hill on Quarry Lane', notes: demoPackNotes.trike },
 		cells: trikeCells,
 		skip: new Set([trikeCells[16].label, trikeCells[41].label])
 	});
 
 	await addPack(tx, workshopId, people, {
-		pack: { name: 'Camper house battery', cellSpecId: lfp.id, series: 4, parallel: 1, status: 'in-service', bmsFitted: true, bmsBalanceAmps: 0.15, notes: 'Bulk charged, then topped up one cell at a time with the bench supply. Hands-on hours 07:00–23:00.' },
+		pack: { name: 'Camper house battery', cellSpecId: lfp.id, series: 4, parallel: 1, status: 'in-service', bmsFitted: true, bmsBalanceAmps: 0.15, notes: demoPackNotes.camper },
 		cells: batch('H', 4, rand, [3.28, 3.31], [0.25, 0.32], [104, 107]),
 		skip: new Set()
 	});
