@@ -1,5 +1,6 @@
 import Papa from 'papaparse';
 import { CELL_BATCH_MAX_CELLS, CELL_LIMITS, cellLabelKey, type CellRow } from '$lib/schemas/cells';
+import { hasControlCharacter } from '$lib/schemas/text';
 
 export { cellRowSchema } from '$lib/schemas/cells';
 export type { CellRow };
@@ -231,6 +232,10 @@ function createChecker(delimiter: string) {
 		if (label === '') {
 			isValid = false;
 			report({ row, field: 'label', message: `row ${row}: label is empty; every cell needs a label` });
+		} else if (hasControlCharacter(label)) {
+			// PostgreSQL cannot keep NUL, and no label means a control character.
+			isValid = false;
+			report({ row, field: 'label', message: `row ${row}: label holds a control character; use letters, digits and punctuation only` });
 		} else if (labelLength > CELL_LIMITS.labelMaxChars) {
 			isValid = false;
 			report({

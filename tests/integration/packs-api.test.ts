@@ -1,4 +1,7 @@
+import { eq } from 'drizzle-orm';
 import { describe, expect, it } from 'vitest';
+import { db } from '$lib/server/db';
+import { packs } from '$lib/server/db/schema';
 import * as packsApi from '../../src/routes/api/w/[workshop=slug]/packs/+server';
 import * as packApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/+server';
 import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
@@ -70,5 +73,70 @@ describe('the packs JSON API', () => {
 
 		const stranger = await packFixture({ series: 1, parallel: 1 });
 		await expect(packApi.GET(apiEvent(stranger.owner, '/x', { workshop: stranger.owner.workshop.slug, packId: pack.id }))).rejects.toMatchObject({ status: 404 });
+	});
+});
+
+describe('PATCH of a pack', () => {
+	it('changes only the keys sent and leaves every other field as it was', async () => {
+		const { owner, spec } = await packFixture({ series: 1, parallel: 1 });
+		const ws = owner.workshop.slug;
+		const viewer = await joinAs(owner, 'viewer');
+		// Every field away from its form default, so a default filled in by the schema would show.
+		const full = {
+			name: 'Trike 14S3P',
+			cellSpecId: spec.id,
+			series: 14,
+			parallel: 3,
+			bmsFitted: true,
+			bmsBalanceAmps: 0.2,
+			status: 'in-service',
+			packOwnerId: viewer.user.id,
+			measuredPeakAmps: 61.5,
+			measuredPeakNote: 'clamp meter on the hill start',
+			notes: 'Nickel strip 0.15 mm.\nFuse 80 A.'
+		};
+		const created = await packsApi.POST(apiEvent<Ev>(owner, `/api/w/${ws}/packs`, { workshop: ws }, { method: 'POST', body: full }));
+		expect(created.status).toBe(201);
+		const { pack } = (await created.json()) as { pack: { id: string } };
+		const params = { workshop: ws, packId: pack.id };
+		const base = `/api/w/${ws}/packs/${pack.id}`;
+
+		const patched = await packApi.PATCH(apiEvent(owner, base, params, { method: 'PATCH', body: { parallel: 4 } }));
+		expect(patched.status).toBe(200);
+		const [row] = await db.select().from(packs).where(eq(packs.id, pack.id));
+		expect(row).toMatchObject({ ...full, parallel: 4 });
+
+		// The viewer still sees the pack they own.
+		expect((await packApi.GET(apiEvent(viewer, base, params))).status).toBe(200);
+
+		// A single text field, then a single flag: again nothing else moves.
+		await packApi.PATCH(apiEvent(owner, base, params, { method: 'PATCH', body: { notes: 'Re-welded group 7.' } }));
+		await packApi.PATCH(apiEvent(owner, base, params, { method: 'PATCH', body: { status: 'retired' } }));
+		const [after] = await db.select().from(packs).where(eq(packs.id, pack.id));
+		expect(after).toMatchObject({ ...full, parallel: 4, notes: 'Re-welded group 7.', status: 'retired' });
+	});
+
+	it('refuses a body that is not sent as application/json with 415, and changes nothing', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		const ws = owner.workshop.slug;
+		const params = { workshop: ws, packId: pack.id };
+		for (const contentType of ['text/plain', 'application/x-www-form-urlencoded', null]) {
+			const event = apiEvent<Parameters<typeof packApi.PATCH>[0]>(owner, `/api/w/${ws}/packs/${pack.id}`, params);
+			const url = event.url;
+			const headers: Record<string, string> = contentType ? { 'content-type': contentType } : {};
+			(event as { request: Request }).request = new Request(url, { method: 'PATCH', body: '{"name":"Renamed"}', headers });
+			const answer = await packApi.PATCH(event);
+			expect(answer.status, String(contentType)).toBe(415);
+			expect(((await answer.json()) as { message: string }).message).toMatch(/application\/json/);
+		}
+		const [row] = await db.select().from(packs).where(eq(packs.id, pack.id));
+		expect(row.name).toBe('Test pack');
+		const charset = apiEvent<Parameters<typeof packApi.PATCH>[0]>(owner, `/api/w/${ws}/packs/${pack.id}`, params);
+		(charset as { request: Request }).request = new Request(charset.url, {
+			method: 'PATCH',
+			body: '{"name":"Renamed"}',
+			headers: { 'content-type': 'application/json; charset=utf-8' }
+		});
+		expect((await packApi.PATCH(charset)).status).toBe(200);
 	});
 });

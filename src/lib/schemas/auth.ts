@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { roles } from '$lib/permissions';
+import { lineText } from './text';
 
 export function isTimeZone(value: string): boolean {
 	try {
@@ -23,13 +24,9 @@ const newPassword = z
 	.min(10, 'Use at least 10 characters.')
 	.max(200, 'Use at most 200 characters.');
 
-const personName = z.string().trim().min(1, 'Enter your name.').max(100, 'Use at most 100 characters.');
+const personName = lineText(100, { required: 'Enter your name.' });
 
-export const workshopName = z
-	.string()
-	.trim()
-	.min(1, 'Name the workshop.')
-	.max(80, 'Use at most 80 characters.');
+export const workshopName = lineText(80, { required: 'Name the workshop.' });
 
 export const timeZone = z
 	.string()
@@ -70,12 +67,17 @@ export const inviteSchema = z.object({
 	role: z.enum(roles, 'Choose a role.')
 });
 
+/** A record id as newId() makes them; anything else never reaches a query. */
+const recordId = z.string().regex(/^[a-z2-7]{24}$/, 'Choose a member.');
+
 export const roleChangeSchema = z.object({
-	userId: z.string().min(1),
+	userId: recordId,
 	role: z.enum(roles, 'Choose a role.')
 });
 
-export const memberSchema = z.object({ userId: z.string().min(1) });
+export const memberSchema = z.object({ userId: recordId });
+
+export const invitationIdSchema = z.object({ invitationId: z.string().regex(/^[a-z2-7]{24}$/, 'Choose an invitation.') });
 
 export const workshopSchema = z.object({ name: workshopName, timeZone });
 

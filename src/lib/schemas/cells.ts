@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { lineText } from './text';
 
 /**
  * Ranges of one arrival measurement. They mirror the check constraints on the cells table, so
@@ -23,11 +24,10 @@ export function cellLabelKey(label: string): string {
 /** Most cells one upload or one batch request may carry. */
 export const CELL_BATCH_MAX_CELLS = 20_000;
 
-const label = z
-	.string()
-	.trim()
-	.min(1, 'Give the cell a label.')
-	.max(CELL_LIMITS.labelMaxChars, `Use at most ${CELL_LIMITS.labelMaxChars} characters for a label.`);
+const label = lineText(CELL_LIMITS.labelMaxChars, {
+	required: 'Give the cell a label.',
+	tooLong: `Use at most ${CELL_LIMITS.labelMaxChars} characters for a label.`
+});
 
 const volts = z
 	.number({ error: 'Volts must be a number.' })
@@ -92,3 +92,50 @@ export const cellCorrectionSchema = z
 	.refine((c) => Object.values(c).some((v) => v !== undefined), 'Change at least one measurement.');
 
 export type CellCorrection = z.output<typeof cellCorrectionSchema>;
+
+/** A cell's id as a form posts it. */
+const cellId = z.string('Choose a cell.').regex(/^[a-z2-7]{24}$/, 'That cell is not in this batch; reload the page.');
+
+/** A field as typed in a form: text, parsed into a number on the server. */
+const typed = z.string('Each field must be text.').max(200, 'A field is far too long.').optional();
+
+/**
+ * The add-cells form posts its rows as one JSON text: a list of entries with each field as typed.
+ * Anything else (an object, numbers, nulls) is refused here, before any row is read.
+ */
+export const cellEntryFormSchema = z.object({
+	rows: z
+		.string('The entries could not be read. Try again.')
+		.transform((text, ctx) => {
+			try {
+				return JSON.parse(text) as unknown;
+			} catch {
+				ctx.addIssue({ code: 'custom', message: 'The entries could not be read. Try again.' });
+				return z.NEVER;
+			}
+		})
+		.pipe(
+			z
+				.array(
+					z.object(
+						{ label: typed, volts: typed, resistanceMilliOhms: typed, capacityAh: typed },
+						'The entries could not be read. Try again.'
+					),
+					'The entries could not be read. Try again.'
+				)
+				.max(CELL_BATCH_MAX_CELLS, `Send at most ${CELL_BATCH_MAX_CELLS} cells at a time.`)
+		)
+});
+
+/** The inline edit of one cell as its form posts it (numbers still as typed). */
+export const cellEditFormSchema = z.object({
+	cellId,
+	label: typed,
+	volts: typed,
+	resistanceMilliOhms: typed,
+	capacityAh: typed
+});
+
+export const cellIdFormSchema = z.object({ cellId });
+
+export const cellCsvFormSchema = z.object({ csv: z.string('Choose a CSV file.') });

@@ -3,6 +3,7 @@
  * database's check constraints (src/lib/server/db/schema/chargers.ts), so a valid form always saves.
  */
 import { z } from 'zod';
+import { lineText, notesText } from './text';
 
 export const chargerKinds = ['bench-supply', 'multi-channel', 'pack-charger'] as const;
 export type ChargerKind = (typeof chargerKinds)[number];
@@ -32,7 +33,7 @@ const optionalPositive = (what: string, max: number, unit: string) =>
 
 export const channelSchema = z.object({
 	/** Left empty, the channel is called "Channel N" after its place. */
-	name: z.string().trim().max(40, 'Use at most 40 characters for a channel name.').default(''),
+	name: lineText(40, { tooLong: 'Use at most 40 characters for a channel name.' }).default(''),
 	maxVolts: z
 		.number('Enter the highest voltage this channel gives, in volts.')
 		.positive('The maximum voltage must be more than 0 V.')
@@ -54,9 +55,9 @@ export const channelSchema = z.object({
 export type ChannelInput = z.infer<typeof channelSchema>;
 
 export const chargerSchema = z.object({
-	name: z.string().trim().min(1, 'Name the charger.').max(80, 'Use at most 80 characters.'),
+	name: lineText(80, { required: 'Name the charger.' }),
 	kind: z.enum(chargerKinds, 'Choose what kind of charger it is.'),
-	notes: z.string().trim().max(2000, 'Keep the notes under 2000 characters.').default(''),
+	notes: notesText(2000, { tooLong: 'Keep the notes under 2000 characters.' }).default(''),
 	channels: z
 		.array(channelSchema, 'Add at least one channel.')
 		.min(1, 'Add at least one channel.')

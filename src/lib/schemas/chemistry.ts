@@ -4,6 +4,7 @@
  * datasheets print it; the database and the engine keep it as 0..1.
  */
 import { z } from 'zod';
+import { lineText, notesText } from './text';
 
 export const chemistryFamilies = ['li-ion', 'lfp', 'lto'] as const;
 export type ChemistryFamilyInput = (typeof chemistryFamilies)[number];
@@ -39,7 +40,7 @@ export const MAX_REST_POINTS = 60;
 
 export const chemistryProfileSchema = z
 	.object({
-		name: z.string().trim().min(1, 'Name the profile, for example after the cell it comes from.').max(80, 'Use at most 80 characters.'),
+		name: lineText(80, { required: 'Name the profile, for example after the cell it comes from.' }),
 		family: z.enum(chemistryFamilies, 'Choose the family.'),
 		minVolts: volts('absolute minimum voltage'),
 		fullDischargeVolts: volts('discharge cut-off voltage'),
@@ -66,7 +67,7 @@ export const chemistryProfileSchema = z
 			.array(restPointSchema, 'Add the rest-voltage points.')
 			.min(2, 'The rest-voltage table needs at least two points.')
 			.max(MAX_REST_POINTS, `Use at most ${MAX_REST_POINTS} rest-voltage points.`),
-		source: z.string().trim().max(500, 'Keep the source under 500 characters.').default(''),
+		source: notesText(500, { tooLong: 'Keep the source under 500 characters.' }).default(''),
 		/** Ticked when the profile charges past its family's usual limits (beyondUsualLimits, chemistry-form.ts). */
 		datasheetAllows: z.boolean().optional()
 	})

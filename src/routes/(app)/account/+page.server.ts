@@ -1,4 +1,5 @@
-import { redirect } from '@sveltejs/kit';
+import { fail as kitFail, redirect } from '@sveltejs/kit';
+import { z } from 'zod';
 import { listOAuthAccounts, unlinkOAuthAccount } from '$lib/server/accounts';
 import { requireUser } from '$lib/server/auth/permissions';
 import { configuredProviders } from '$lib/server/auth/oauth';
@@ -6,6 +7,7 @@ import { fail, superValidate, zod4 } from '$lib/server/forms';
 import { createWorkshop, listWorkshopsOf } from '$lib/server/workshops';
 import { workshopSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 const linkErrors: Record<string, string> = {
 	'linked-elsewhere': 'That provider account is already linked to another Cellsitter account.',
@@ -34,7 +36,10 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 	};
 };
 
-export const actions: Actions = {
+/** A provider id as configured (github, oauth…): short, lower case. */
+const unlinkSchema = z.object({ provider: z.string().regex(/^[a-z0-9-]{1,40}$/) });
+
+export const actions: Actions = guardActions<Actions>({
 	createWorkshop: async ({ locals, url, request }) => {
 		const user = requireUser(locals, url);
 		const form = await superValidate(request, zod4(workshopSchema));
@@ -44,9 +49,10 @@ export const actions: Actions = {
 	},
 	unlink: async ({ locals, url, request }) => {
 		const user = requireUser(locals, url);
-		const provider = String((await request.formData()).get('provider') ?? '');
-		const result = await unlinkOAuthAccount(user.id, provider);
+		const parsed = unlinkSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!parsed.success) return kitFail(400, { unlinkError: 'Choose a provider to unlink.' });
+		const result = await unlinkOAuthAccount(user.id, parsed.data.provider);
 		if (!result.ok) return { unlinkError: 'Set a password first: it is your only way to sign in.' };
 		return {};
 	}
-};
+});

@@ -1,9 +1,11 @@
 import { can } from '$lib/permissions';
-import { requireMember, requireMemberWith } from '$lib/server/auth/permissions';
+import { requireMemberWith } from '$lib/server/auth/permissions';
 import { fail, message, superValidate, zod4 } from '$lib/server/forms';
-import { listMembers, updateWorkshop } from '$lib/server/workshops';
+import { updateWorkshop } from '$lib/server/workshops';
+import { listMembers } from '$lib/server/workshops-members';
 import { workshopSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'workshop.view');
@@ -19,12 +21,13 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	};
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	rename: async ({ locals, params, url, request }) => {
-		const member = await requireMember(locals, params, url);
+		// Asked before the form is read: a role that may not rename gets 403 whatever it sent.
+		const member = await requireMemberWith(locals, params, url, 'workshop.edit');
 		const form = await superValidate(request, zod4(workshopSchema));
 		if (!form.valid) return fail(400, { form });
 		await updateWorkshop(member, form.data);
 		return message(form, 'Saved.');
 	}
-};
+});

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { problem, readJson, requireApiMember } from '$lib/server/api';
+import { endpoint, problem, readJson, requireApiMember } from '$lib/server/api';
 import { createPack, listPacks } from '$lib/server/packs';
 import { packSchema } from '$lib/schemas/packs';
 import type { RequestHandler } from './$types';
@@ -9,11 +9,11 @@ export const GET: RequestHandler = async (event) => {
 	return json({ packs: await listPacks(member) });
 };
 
-export const POST: RequestHandler = async (event) => {
+export const POST: RequestHandler = endpoint(async (event) => {
 	const member = await requireApiMember(event, 'packs.edit');
 	const input = await readJson(event.request, packSchema);
 	if (input instanceof Response) return input;
 	const result = await createPack(member, input);
 	if (!result.ok) return problem(400, { message: result.message, errors: [{ path: result.field, message: result.message }] });
 	return json({ pack: result.pack }, { status: 201 });
-};
+});

@@ -5,6 +5,7 @@ import { chemistryChoices } from '$lib/server/chemistry-choices';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { cellSpecSchema } from '$lib/schemas/packs';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'specs.edit');
@@ -27,7 +28,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	return { form, chemistryOptions, specName: spec.name };
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	default: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'specs.edit');
 		const form = await superValidate(request, zod4(cellSpecSchema));
@@ -36,4 +37,4 @@ export const actions: Actions = {
 		if (!result.ok) return setError(form, result.reason === 'name-taken' ? 'name' : 'chemistry', result.message);
 		redirect(303, `/w/${params.workshop}/cell-specs`);
 	}
-};
+});

@@ -4,6 +4,7 @@ import { deleteCharger, getCharger, updateCharger } from '$lib/server/chargers';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { chargerSchema } from '$lib/schemas/chargers';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'chargers.edit');
@@ -31,7 +32,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	};
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	save: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'chargers.edit');
 		const form = await superValidate(request, zod4(chargerSchema));
@@ -46,4 +47,4 @@ export const actions: Actions = {
 		if (!result.ok) return kitFail(409, { deleteError: result.message });
 		redirect(303, `/w/${member.workshop.slug}/chargers`);
 	}
-};
+});

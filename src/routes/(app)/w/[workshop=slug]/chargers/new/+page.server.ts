@@ -4,6 +4,7 @@ import { createCharger } from '$lib/server/chargers';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { blankChannel, chargerSchema } from '$lib/schemas/chargers';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	await requireMemberWith(locals, params, url, 'chargers.edit');
@@ -13,7 +14,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	return { form };
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	default: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'chargers.edit');
 		const form = await superValidate(request, zod4(chargerSchema));
@@ -22,4 +23,4 @@ export const actions: Actions = {
 		if (!result.ok) return setError(form, 'name', result.message);
 		redirect(303, `/w/${member.workshop.slug}/chargers`);
 	}
-};
+});

@@ -4,6 +4,7 @@ import { deleteChemistryProfile, getChemistryProfile, updateChemistryProfile } f
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { chemistryProfileSchema, percentFromSoc } from '$lib/schemas/chemistry';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'specs.edit');
@@ -36,7 +37,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	};
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	save: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'specs.edit');
 		const form = await superValidate(request, zod4(chemistryProfileSchema));
@@ -56,4 +57,4 @@ export const actions: Actions = {
 		if (!result.ok) return kitFail(409, { deleteError: result.message });
 		redirect(303, `/w/${member.workshop.slug}/chemistries`);
 	}
-};
+});

@@ -6,6 +6,7 @@ import { createChemistryProfile } from '$lib/server/chemistry-profiles';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { chemistryProfileSchema } from '$lib/schemas/chemistry';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	await requireMemberWith(locals, params, url, 'specs.edit');
@@ -17,7 +18,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	return { form, from };
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	default: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'specs.edit');
 		const form = await superValidate(request, zod4(chemistryProfileSchema));
@@ -31,4 +32,4 @@ export const actions: Actions = {
 		}
 		redirect(303, `/w/${member.workshop.slug}/chemistries`);
 	}
-};
+});

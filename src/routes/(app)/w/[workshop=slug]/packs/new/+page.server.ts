@@ -5,6 +5,7 @@ import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
 import { createPack, packOwnerChoices } from '$lib/server/packs';
 import { packSchema } from '$lib/schemas/packs';
 import type { Actions, PageServerLoad } from './$types';
+import { guardActions } from '$lib/server/input-problems';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.edit');
@@ -18,7 +19,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	return { form, specs, owners };
 };
 
-export const actions: Actions = {
+export const actions: Actions = guardActions<Actions>({
 	default: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'packs.edit');
 		const form = await superValidate(request, zod4(packSchema));
@@ -27,4 +28,4 @@ export const actions: Actions = {
 		if (!result.ok) return setError(form, result.field, result.message);
 		redirect(303, `/w/${params.workshop}/packs/${result.pack.id}`);
 	}
-};
+});

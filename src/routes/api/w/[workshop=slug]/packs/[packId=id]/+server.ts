@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { problem, readJson, requireApiMember } from '$lib/server/api';
+import { endpoint, problem, readJson, requireApiMember } from '$lib/server/api';
 import { getPackView, updatePack } from '$lib/server/packs';
 import { packPatchSchema } from '$lib/schemas/packs';
 import type { RequestHandler } from './$types';
@@ -12,7 +12,7 @@ export const GET: RequestHandler = async (event) => {
 	return json({ ...view, spec: { ...spec, chemistryName: chemistry.name } });
 };
 
-export const PATCH: RequestHandler = async (event) => {
+export const PATCH: RequestHandler = endpoint(async (event) => {
 	const member = await requireApiMember(event, 'packs.edit');
 	const { request, params } = event;
 	const input = await readJson(request, packPatchSchema);
@@ -20,4 +20,4 @@ export const PATCH: RequestHandler = async (event) => {
 	const result = await updatePack(member, params.packId, input);
 	if (!result.ok) return problem(400, { message: result.message, errors: [{ path: result.field, message: result.message }] });
 	return json({ pack: result.pack, clearedAssignment: result.clearedAssignment });
-};
+});

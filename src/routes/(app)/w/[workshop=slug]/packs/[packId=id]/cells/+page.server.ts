@@ -2,7 +2,15 @@ import { fail } from '@sveltejs/kit';
 import { can } from '$lib/permissions';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { addCells, correctCell, importCellCsv, listBatch, removeCell } from '$lib/server/cells';
-import { cellBatchSchema, cellCorrectionSchema } from '$lib/schemas/cells';
+import { guardActions } from '$lib/server/input-problems';
+import {
+	cellBatchSchema,
+	cellCorrectionSchema,
+	cellCsvFormSchema,
+	cellEditFormSchema,
+	cellEntryFormSchema,
+	cellIdFormSchema
+} from '$lib/schemas/cells';
 import { parseDecimal } from '$lib/cells-csv';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -19,31 +27,31 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 };
 
 /** "" → null, "3,61" → 3.61, anything else that is not a number → NaN (the schema names it). */
-function numberField(value: FormDataEntryValue | null | undefined): number | null {
+function numberField(value: string | undefined): number | null {
 	const text = String(value ?? '').trim();
 	if (text === '') return null;
 	return parseDecimal(text) ?? Number.NaN;
 }
 
-export const actions: Actions = {
+const messagesOf = (issues: { message: string }[]) => issues.map((i) => i.message).join(' ');
+
+export const actions: Actions = guardActions<Actions>({
 	importCsv: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const csv = (await request.formData()).get('csv');
-		if (typeof csv !== 'string' || !csv.trim()) return fail(400, { message: 'The file is empty.', errors: [] });
+		const input = cellCsvFormSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!input.success) return fail(400, { message: messagesOf(input.error.issues), errors: [] });
+		const { csv } = input.data;
+		if (!csv.trim()) return fail(400, { message: 'The file is empty.', errors: [] });
 		const result = await importCellCsv(member, params.packId, csv);
 		if (!result.ok) return fail(400, { message: result.message, errors: result.errors });
 		return { imported: result.imported };
 	},
 	addCells: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		let raw: { label?: string; volts?: string; resistanceMilliOhms?: string; capacityAh?: string }[];
-		try {
-			raw = JSON.parse(String((await request.formData()).get('rows') ?? '[]'));
-		} catch {
-			return fail(400, { entryProblem: 'The entries could not be read. Try again.' });
-		}
+		const input = cellEntryFormSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!input.success) return fail(400, { entryProblem: input.error.issues[0].message });
 		const parsed = cellBatchSchema.safeParse({
-			cells: raw.map((r) => ({
+			cells: input.data.rows.map((r) => ({
 				label: r.label ?? '',
 				volts: numberField(r.volts) ?? Number.NaN,
 				resistanceMilliOhms: numberField(r.resistanceMilliOhms),
@@ -62,22 +70,26 @@ export const actions: Actions = {
 	},
 	correct: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const form = await request.formData();
+		const input = cellEditFormSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!input.success) return fail(400, { correctProblem: messagesOf(input.error.issues) });
+		const form = input.data;
 		const parsed = cellCorrectionSchema.safeParse({
-			label: String(form.get('label') ?? '').trim() || undefined,
-			volts: numberField(form.get('volts')) ?? Number.NaN,
-			resistanceMilliOhms: numberField(form.get('resistanceMilliOhms')),
-			capacityAh: numberField(form.get('capacityAh'))
+			label: form.label?.trim() || undefined,
+			volts: numberField(form.volts) ?? Number.NaN,
+			resistanceMilliOhms: numberField(form.resistanceMilliOhms),
+			capacityAh: numberField(form.capacityAh)
 		});
-		if (!parsed.success) return fail(400, { correctProblem: parsed.error.issues.map((i) => i.message).join(' ') });
-		const result = await correctCell(member, params.packId, String(form.get('cellId') ?? ''), parsed.data);
+		if (!parsed.success) return fail(400, { correctProblem: messagesOf(parsed.error.issues) });
+		const result = await correctCell(member, params.packId, form.cellId, parsed.data);
 		if (!result.ok) return fail(400, { correctProblem: result.message });
 		return { correctDone: `${result.cell.label} corrected.` };
 	},
 	remove: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const result = await removeCell(member, params.packId, String((await request.formData()).get('cellId') ?? ''));
+		const input = cellIdFormSchema.safeParse(Object.fromEntries(await request.formData()));
+		if (!input.success) return fail(400, { correctProblem: messagesOf(input.error.issues) });
+		const result = await removeCell(member, params.packId, input.data.cellId);
 		if (!result.ok) return fail(409, { correctProblem: result.message });
 		return { correctDone: 'Cell removed from the batch.' };
 	}
-};
+});

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { problem, readJson, requireApiMember } from '$lib/server/api';
+import { endpoint, problem, readJson, requireApiMember } from '$lib/server/api';
 import { addCells, listBatch } from '$lib/server/cells';
 import { cellBatchSchema } from '$lib/schemas/cells';
 import type { RequestHandler } from './$types';
@@ -12,7 +12,7 @@ export const GET: RequestHandler = async (event) => {
 };
 
 /** A batch of arrival measurements: all are added, or none. */
-export const POST: RequestHandler = async (event) => {
+export const POST: RequestHandler = endpoint(async (event) => {
 	const member = await requireApiMember(event, 'measurements.edit');
 	const { request, params } = event;
 	const input = await readJson(request, cellBatchSchema);
@@ -25,4 +25,4 @@ export const POST: RequestHandler = async (event) => {
 		});
 	}
 	return json({ imported: result.imported }, { status: 201 });
-};
+});

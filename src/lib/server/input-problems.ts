@@ -1,0 +1,72 @@
+/**
+ * Database errors that bad or concurrent input can still cause after validation (a race with
+ * another request, a constraint zod does not know), as a 400 or 409 with a plain message. The one
+ * place that maps them: the JSON API (api.ts) and the form actions (guardActions) both use it, so
+ * such input never becomes a 500. Anything else is a bug and stays one.
+ */
+import { error } from '@sveltejs/kit';
+import { PG, pgCode } from './db/errors';
+
+export type InputProblem = { status: 400 | 409; message: string };
+
+const problems: Record<string, InputProblem> = {
+	[PG.uniqueViolation]: {
+		status: 409,
+		message: 'Something with the same name or label is already saved. Choose another and try again.'
+	},
+	[PG.foreignKeyViolation]: {
+		status: 409,
+		message: 'Something this refers to was removed or changed meanwhile. Reload the page and try again.'
+	},
+	[PG.checkViolation]: { status: 400, message: 'A value is outside the range Cellsitter can keep. Check the numbers and try again.' },
+	[PG.notNullViolation]: { status: 400, message: 'A required value is missing. Fill in every field and try again.' },
+	[PG.stringDataRightTruncation]: { status: 400, message: 'A text is too long. Shorten it and try again.' },
+	[PG.numericValueOutOfRange]: { status: 400, message: 'A number is too large. Check the numbers and try again.' },
+	[PG.invalidTextRepresentation]: { status: 400, message: 'A value is not in the form expected. Check the fields and try again.' },
+	[PG.characterNotInRepertoire]: {
+		status: 400,
+		message: 'A text holds characters that cannot be stored (such as control characters). Remove them and try again.'
+	},
+	[PG.untranslatableCharacter]: {
+		status: 400,
+		message: 'A text holds characters that cannot be stored (such as control characters). Remove them and try again.'
+	},
+	[PG.serializationFailure]: { status: 409, message: 'Someone changed this at the same moment. Reload the page and try again.' },
+	[PG.deadlockDetected]: { status: 409, message: 'Someone changed this at the same moment. Reload the page and try again.' },
+	[PG.lockNotAvailable]: { status: 409, message: 'Someone is changing this right now. Try again in a moment.' }
+};
+
+/** The 4xx answer for a database error caused by input, or null when the error is something else. */
+export function inputProblem(e: unknown): InputProblem | null {
+	const code = pgCode(e);
+	return code ? (problems[code] ?? null) : null;
+}
+
+/** Runs `work`; a database error caused by input becomes SvelteKit's error(status, message). */
+export async function withInputProblems<T>(work: () => Promise<T>): Promise<T> {
+	try {
+		return await work();
+	} catch (e) {
+		const found = inputProblem(e);
+		if (found) {
+			console.warn(`Input refused by the database (${pgCode(e)}): ${found.message}`);
+			error(found.status, found.message);
+		}
+		throw e;
+	}
+}
+
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+type AnyAction = (event: any) => unknown;
+
+/**
+ * Wraps every form action of a page so that a database error caused by input answers 400/409 with
+ * a plain message (the page's error view) instead of a 500. Redirects and fail()s pass unchanged.
+ */
+export function guardActions<A extends Record<string, AnyAction>>(actions: A): A {
+	const guarded: Record<string, AnyAction> = {};
+	for (const [name, action] of Object.entries(actions)) {
+		guarded[name] = (event) => withInputProblems(async () => action(event));
+	}
+	return guarded as A;
+}
