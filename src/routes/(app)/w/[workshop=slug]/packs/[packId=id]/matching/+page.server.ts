@@ -1,6 +1,6 @@
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listBatch } from '$lib/server/cells';
-import { batchVersion, matchingCapacity, savedAssignment } from '$lib/server/matching';
+import { matchingCapacity, savedAssignment } from '$lib/server/matching';
 import type { PageServerLoad } from './$types';
 
 // Proposing and accepting go through the JSON API (docs/api.md) from the page.
@@ -17,12 +17,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			measured: c.capacityAh !== null,
 			resistanceMilliOhms: c.resistanceMilliOhms,
 			verdict: c.verdict,
-			placement: c.placement,
-			reasons: c.reasons
+			placement: c.placement
 		})),
-		nominalAh: batch.spec.capacityAh,
-		saved: savedAssignment(batch.cells, pack.series, pack.parallel),
-		/** What the saved assignment was read from: accepting it (with swaps) sends it back. */
-		version: batchVersion(pack, batch.cells)
+		saved: savedAssignment(batch.cells, pack.series)
 	};
 };
