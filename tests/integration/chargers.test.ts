@@ -22,14 +22,13 @@ import { db } from '$lib/server/db';
 import { cellSpecs, chargerChannels, chargers, users } from '$lib/server/db/schema';
 import { loadDemoChargers } from '$lib/server/demo/chargers';
 import { newId } from '$lib/server/ids';
-import { acceptInvitation, inviteMember } from '$lib/server/workshops';
+import { acceptInvitation, inviteMember } from '$lib/server/workshops-invitations';
 import type { Role } from '$lib/permissions';
 import type { ChargerInput } from '$lib/schemas/chargers';
 import type { ChemistryProfileInput } from '$lib/schemas/chemistry';
 import * as api from '../../src/routes/api/w/[workshop=slug]/chargers/+server';
 import { apiEvent, signUpOwner } from './helpers';
 
-const ORIGIN = 'http://127.0.0.1:3100';
 
 async function memberOf(userId: string, slug: string): Promise<Member> {
 	const [user] = await db.select().from(users).where(eq(users.id, userId));
@@ -46,7 +45,7 @@ async function newOwner(label: string) {
 /** Another person joins the owner's workshop with `role`, through an invitation. */
 async function joinAs(owner: Member, role: Role): Promise<Member> {
 	const person = await signUpOwner(role);
-	const invited = await inviteMember(owner, { email: person.email, role }, ORIGIN);
+	const invited = await inviteMember(owner, { email: person.email, role });
 	if (!invited.ok) throw new Error('invite failed');
 	await acceptInvitation({ id: person.userId, email: person.email }, invited.link.split('/invite/')[1]);
 	return memberOf(person.userId, owner.workshop.slug);

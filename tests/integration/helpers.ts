@@ -8,7 +8,7 @@ import { createCellSpec } from '$lib/server/cell-specs';
 import { db } from '$lib/server/db';
 import { users } from '$lib/server/db/schema';
 import { createPack } from '$lib/server/packs';
-import { acceptInvitation, inviteMember } from '$lib/server/workshops';
+import { acceptInvitation, inviteMember } from '$lib/server/workshops-invitations';
 
 /** An e-mail no other test (or earlier run against the same database) uses. */
 export function uniqueEmail(label: string): string {
@@ -53,7 +53,7 @@ export async function memberOf(userId: string, slug: string): Promise<Member> {
 /** A new person who joins the owner's workshop with `role` through a real invitation. */
 export async function joinAs(owner: Member, role: Role): Promise<Member> {
 	const person = await signUpOwner(role);
-	const invited = await inviteMember(owner, { email: person.email, role }, 'http://127.0.0.1:3100');
+	const invited = await inviteMember(owner, { email: person.email, role });
 	if (!invited.ok) throw new Error('invite failed');
 	const accepted = await acceptInvitation({ id: person.userId, email: person.email }, invited.link.split('/invite/')[1]);
 	if (!accepted.ok) throw new Error(`accept failed: ${accepted.reason}`);

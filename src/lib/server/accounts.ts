@@ -11,7 +11,8 @@ import { consumeResetRequest } from './auth/reset-rate-limit';
 import { burnPasswordCheck, hashPassword, verifyPassword } from './auth/passwords';
 import { invalidateUserSessions } from './auth/session';
 import { signInSucceeded, takeSignInAttempt } from './auth/rate-limit';
-import { acceptInvitationIn, createWorkshopIn } from './workshops';
+import { createWorkshopIn } from './workshops';
+import { acceptInvitationIn } from './workshops-invitations';
 
 export const RESET_MINUTES = 60;
 

@@ -3,7 +3,7 @@ import { signUp } from '$lib/server/accounts';
 import { configuredProviders } from '$lib/server/auth/oauth';
 import { createSession, setSessionCookie } from '$lib/server/auth/session';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
-import { findInvitation } from '$lib/server/workshops';
+import { findInvitation } from '$lib/server/workshops-invitations';
 import { signUpSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 

@@ -1,5 +1,5 @@
 import { error, redirect } from '@sveltejs/kit';
-import { acceptInvitation, findInvitation } from '$lib/server/workshops';
+import { acceptInvitation, findInvitation } from '$lib/server/workshops-invitations';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params, locals }) => {

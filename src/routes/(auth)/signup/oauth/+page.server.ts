@@ -2,7 +2,7 @@ import { redirect } from '@sveltejs/kit';
 import { completeOAuthSignUp, findPendingOAuth } from '$lib/server/accounts';
 import { createSession, setSessionCookie } from '$lib/server/auth/session';
 import { fail, message, superValidate, zod4 } from '$lib/server/forms';
-import { findInvitation } from '$lib/server/workshops';
+import { findInvitation } from '$lib/server/workshops-invitations';
 import { oauthSignUpSchema, safeNext } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 

@@ -1,7 +1,8 @@
 import { can } from '$lib/permissions';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { fail, message, superValidate, zod4 } from '$lib/server/forms';
-import { listMembers, updateWorkshop } from '$lib/server/workshops';
+import { updateWorkshop } from '$lib/server/workshops';
+import { listMembers } from '$lib/server/workshops-members';
 import { workshopSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 import { guardActions } from '$lib/server/input-problems';
