@@ -1,14 +1,9 @@
 import { fail as kitFail } from '@sveltejs/kit';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { fail, message, setError, superValidate, zod4 } from '$lib/server/forms';
-import {
-	changeRole,
-	inviteMember,
-	listMembers,
-	listOpenInvitations,
-	removeMember,
-	revokeInvitation
-} from '$lib/server/workshops';
+import { formatWhen } from '$lib/format';
+import { inviteMember, listOpenInvitations, revokeInvitation } from '$lib/server/workshops-invitations';
+import { changeRole, listMembers, removalMessage, removeMember } from '$lib/server/workshops-members';
 import { invitationIdSchema, inviteSchema, memberSchema, roleChangeSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 import { guardActions } from '$lib/server/input-problems';
@@ -20,7 +15,14 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		listOpenInvitations(member),
 		superValidate({ role: 'technician' as const }, zod4(inviteSchema), { errors: false })
 	]);
-	return { members, invitations, form, me: member.user.id };
+	// Expiry in the workshop's own time zone, as everything else at the bench is read.
+	const zone = member.workshop.timeZone;
+	return {
+		members,
+		invitations: invitations.map((inv) => ({ ...inv, expires: formatWhen(inv.expiresAt, zone) })),
+		form,
+		me: member.user.id
+	};
 };
 
 const refusals = {
@@ -33,7 +35,7 @@ export const actions: Actions = guardActions<Actions>({
 		const member = await requireMemberWith(locals, params, url, 'members.manage');
 		const form = await superValidate(request, zod4(inviteSchema));
 		if (!form.valid) return fail(400, { form });
-		const result = await inviteMember(member, form.data, url.origin);
+		const result = await inviteMember(member, form.data);
 		if (!result.ok) return setError(form, 'email', `${form.data.email} is already a member.`);
 		const text = result.mailed
 			? `Invitation sent to ${form.data.email}.`
@@ -54,7 +56,7 @@ export const actions: Actions = guardActions<Actions>({
 		if (!parsed.success) return kitFail(400, { memberError: 'Choose a member.' });
 		const result = await removeMember(member, parsed.data.userId);
 		if (!result.ok) return kitFail(409, { memberError: refusals[result.reason] });
-		return { memberDone: 'Member removed.' };
+		return { memberDone: removalMessage(result) };
 	},
 	revoke: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'members.manage');
