@@ -2,8 +2,7 @@ import fc from 'fast-check';
 import { Solver } from 'odex';
 import { describe, expect, it } from 'vitest';
 import { planBleed, type BleedInput } from './plan-bleed';
-import { restVoltageFromSoc, socFromRestVoltage } from './soc';
-import { at, firstBadNumber, stepsStartingUnattended } from './test-support';
+import { at, firstBadNumber, publishedRestCurves, RunCounter, stepsStartingUnattended, tableSoc, tableVolts } from './test-support';
 
 function plan(input: BleedInput) {
 	const r = planBleed(input);
@@ -28,22 +27,29 @@ describe('planBleed', () => {
 		const r = plan({ chemistry: 'lfp', groups: [{ id: 'g', capacityAh: 280, startVolts: 3.34 }], target: { volts: 3.3 }, load: { ohms: 33 }, start: at(0) });
 		expect(r.steps[0].amps).toBeGreaterThan(0.09);
 		expect(r.steps[0].amps).toBeLessThan(0.11);
+		expect(r.steps[0].amps).toBeCloseTo(3.34 / 33, 9); // Ohm's law at the start: 0.101212 A
 	});
 
 	it('through a resistor the current falls with the voltage: hours agree with odex integrating dsoc/dt = −V(soc) / (R·C)', () => {
 		const capacityAh = 3;
 		const ohms = 10;
 		const r = plan({ chemistry: 'nmc', groups: [{ id: 'g', capacityAh, startVolts: 4.1 }], target: { volts: 3.7 }, load: { ohms }, start: at(0) });
-		const from = socFromRestVoltage('nmc', 4.1);
-		const to = socFromRestVoltage('nmc', 3.7);
-		if (!from.ok || !to.ok) throw new Error();
+		// The rest curve is the published IEEE TIM 2025 NMC table, interpolated in the test (references.md §2):
+		// 4.1 V at 0.8392 + 0.1156 × 0.0336 / 0.0457 = 0.924193, 3.7 V at 0.4523 + 0.3869 × 0.0059 / 0.3723 = 0.458431.
+		const from = tableSoc(publishedRestCurves.nmc, 4.1);
+		const to = tableSoc(publishedRestCurves.nmc, 3.7);
+		expect(from).toBeCloseTo(0.924193, 5);
+		expect(to).toBeCloseTo(0.458431, 5);
 		const solver = new Solver(1);
 		solver.denseOutput = true;
 		solver.absoluteTolerance = solver.relativeTolerance = 1e-10;
 		let hours = Number.NaN;
-		solver.solve((_t: number, [s]: number[]) => [-(restVoltageFromSoc('nmc', s) as number) / (ohms * capacityAh)], 0, [from.soc], 200, solver.grid(0.001, (t: number, [s]: number[]) => {
-			if (Number.isNaN(hours) && s <= to.soc) hours = t;
+		solver.solve((_t: number, [s]: number[]) => [-tableVolts(publishedRestCurves.nmc, s) / (ohms * capacityAh)], 0, [from], 200, solver.grid(0.001, (t: number, [s]: number[]) => {
+			if (Number.isNaN(hours) && s <= to) hours = t;
 		}));
+		// Sanity by hand: 3 Ah × (0.924193 − 0.458431) = 1.397 Ah out at 0.37–0.41 A takes 3.4–3.8 h.
+		expect(hours).toBeGreaterThan(1.397 / 0.41);
+		expect(hours).toBeLessThan(1.397 / 0.37);
 		expect(r.steps[0].hours).toBeCloseTo(hours, 2);
 		expect(r.steps[0].amps).toBeCloseTo(4.1 / ohms, 9);
 		expect(r.steps[0].averageAmps).toBeLessThan(r.steps[0].amps);
@@ -67,6 +73,7 @@ describe('planBleed', () => {
 	});
 
 	it('properties (fast-check): every bleed starts inside a hands-on window; no NaN or negative number', () => {
+		const runs = new RunCounter();
 		fc.assert(
 			fc.property(
 				fc.array(fc.record({ capacityAh: fc.double({ min: 1, max: 300, noNaN: true }), startSoc: fc.double({ min: 0.05, max: 1, noNaN: true }) }), { minLength: 1, maxLength: 12 }), // above NMC's 3.0 V full discharge
@@ -78,13 +85,17 @@ describe('planBleed', () => {
 					const r = planBleed({ chemistry: 'nmc', groups, target: 'lowest', load, start: at(0), handsOn });
 					if (!r.ok) {
 						expect(r.reason).toBe('hands-on-too-short');
+						runs.skipped++;
 						return;
 					}
+					runs.ran++;
 					expect(firstBadNumber(r)).toBeNull();
 					expect(stepsStartingUnattended(r.steps, handsOn)).toEqual([]);
 				}
 			),
 			{ numRuns: 40 }
 		);
+		// A refusal proves nothing about the steps: most generated cases must have produced a plan.
+		expect(runs.enough(0.75)).toBe(true);
 	});
 });
