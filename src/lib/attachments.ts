@@ -1,6 +1,6 @@
 /**
  * Attachments as the browser sees them: the limits, the accepted types and the shape that the
- * server's attachment verbs return. Client-safe; the server side is src/lib/server/attachments.ts.
+ * server's attachment verbs return. Client-safe; the server side is src/lib/server/attachments*.ts.
  */
 
 /** 10 MiB, the same bound as the attachments_size check in the schema. */

@@ -12,17 +12,11 @@ const dataDir = vi.hoisted(() => {
 });
 
 import { ATTACHMENT_MAX_BYTES } from '$lib/attachments';
-import {
-	addAttachment,
-	attachmentsDir,
-	contentDisposition,
-	deleteAttachment,
-	downloadName,
-	listAttachments,
-	readAttachment,
-	sanitiseFileName,
-	THUMBNAIL_WIDTH
-} from '$lib/server/attachments';
+import { addAttachment, deleteAttachment, listAttachments, readAttachment } from '$lib/server/attachments';
+import { contentDisposition, downloadName } from '$lib/server/attachments-http';
+import { sanitiseFileName } from '$lib/server/attachments-sniff';
+import { attachmentsDir } from '$lib/server/attachments-store';
+import { THUMBNAIL_WIDTH } from '$lib/server/attachments-thumbnails';
 import { findMember, type Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { attachments, cellSpecs, memberships, packs, users } from '$lib/server/db/schema';
@@ -310,7 +304,8 @@ describe('who may see and add attachments', () => {
 		await expect(listAttachments(viewer, notTheirs)).rejects.toMatchObject({ status: 404 });
 		await expect(readAttachment(viewer, notTheirs, b.attachment.id, 'file')).rejects.toMatchObject({ status: 404 });
 		await expect(readAttachment(viewer, notTheirs, b.attachment.id, 'thumb')).rejects.toMatchObject({ status: 404 });
-		await expect(addAttachment(viewer, notTheirs, { name: 'x.jpg', bytes: jpeg })).rejects.toMatchObject({ status: 404 });
+		// A viewer may never attach: the role answers first, so this says nothing about the pack.
+		await expect(addAttachment(viewer, notTheirs, { name: 'x.jpg', bytes: jpeg })).rejects.toMatchObject({ status: 403 });
 		// An attachment id is only found through its own pack.
 		await expect(readAttachment(viewer, theirs, b.attachment.id, 'file')).rejects.toMatchObject({ status: 404 });
 		expect(await rowsOf(theirs)).toHaveLength(1);
@@ -368,7 +363,19 @@ describe('the attachment endpoints', () => {
 		expect(file.headers.get('x-content-type-options')).toBe('nosniff');
 		expect(file.headers.get('content-disposition')).toBe(`inline; filename="rig.jpg"; filename*=UTF-8''rig.jpg`);
 		expect(file.headers.get('cache-control')).toMatch(/^private, max-age=\d+$/);
+		// Uploaded content never runs as a page of the app: sandboxed, not embeddable elsewhere.
+		expect(file.headers.get('content-security-policy')).toMatch(/(^|;\s*)sandbox(;|$)/);
+		expect(file.headers.get('content-security-policy')).toMatch(/default-src 'none'/);
+		expect(file.headers.get('cross-origin-resource-policy')).toBe('same-origin');
 		expect(Buffer.from(await file.arrayBuffer()).equals(Buffer.from(jpeg))).toBe(true);
+
+		// A PDF can carry scripts and forms: it is a download, sandboxed as well.
+		const pdf = await single.GET(event(owner, packId, { attachmentId: added[1].id }));
+		expect(pdf.headers.get('content-type')).toBe('application/pdf');
+		expect(pdf.headers.get('content-disposition')).toBe(`attachment; filename="sheet.pdf"; filename*=UTF-8''sheet.pdf`);
+		expect(pdf.headers.get('content-security-policy')).toMatch(/(^|;\s*)sandbox(;|$)/);
+		expect(pdf.headers.get('x-content-type-options')).toBe('nosniff');
+		await pdf.body?.cancel();
 
 		const preview = await thumb.GET(event(owner, packId, { attachmentId: added[0].id }));
 		expect(preview.headers.get('content-type')).toBe('image/webp');
@@ -423,8 +430,12 @@ describe('the attachment endpoints', () => {
 			status: 403
 		});
 		await expect(collection.GET(event(viewer, otherPack))).rejects.toMatchObject({ status: 404 });
+		// The endpoint asks the role itself, before any pack is looked up: 403 on any pack.
 		await expect(collection.POST(event(viewer, otherPack, { method: 'POST', form: formWith(['v.jpg', jpeg]) }))).rejects.toMatchObject({
-			status: 404
+			status: 403
+		});
+		await expect(single.DELETE(event(viewer, otherPack, { method: 'DELETE', attachmentId: row.id }))).rejects.toMatchObject({
+			status: 403
 		});
 
 		// Another workshop's owner, on this workshop's URL: not a member, so 404 before anything else.

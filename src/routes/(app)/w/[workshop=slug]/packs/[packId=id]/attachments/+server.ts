@@ -1,16 +1,9 @@
 import { json } from '@sveltejs/kit';
 import { ATTACHMENT_MAX_BYTES, tooLargeMessage } from '$lib/attachments';
-import {
-	addAttachment,
-	inspectFile,
-	listAttachments,
-	requireAttachablePack,
-	sanitiseFileName,
-	type AttachmentView,
-	type FileRefusal,
-	type FileUpload
-} from '$lib/server/attachments';
-import { requireMember } from '$lib/server/auth/permissions';
+import type { AttachmentView } from '$lib/attachments';
+import { addAttachment, listAttachments, requireAttachablePack } from '$lib/server/attachments';
+import { inspectFile, sanitiseFileName, type FileRefusal, type FileUpload } from '$lib/server/attachments-sniff';
+import { requireMemberWith } from '$lib/server/auth/permissions';
 import type { RequestHandler } from './$types';
 
 const statusFor: Record<FileRefusal['reason'], number> = { 'too-large': 413, 'unsupported-type': 415, empty: 400 };
@@ -22,7 +15,7 @@ function bodyStatus(e: unknown): number | undefined {
 
 /** The pack's attachments. */
 export const GET: RequestHandler = async ({ locals, params, url }) => {
-	const member = await requireMember(locals, params, url);
+	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
 	return json({ attachments: await listAttachments(member, params.packId) });
 };
 
@@ -31,8 +24,8 @@ export const GET: RequestHandler = async ({ locals, params, url }) => {
  * any is stored, so a refusal leaves the pack as it was.
  */
 export const POST: RequestHandler = async ({ locals, params, url, request }) => {
-	const member = await requireMember(locals, params, url);
-	// Who may attach is settled before the body is read.
+	// Who may attach is settled before the body is read: the role first (403), then the pack (404).
+	const member = await requireMemberWith(locals, params, url, 'attachments.add');
 	await requireAttachablePack(member, params.packId);
 
 	let form: FormData;
