@@ -1,6 +1,5 @@
 // In-memory store of every message the fake SMTP server accepted.
 import { randomUUID } from 'node:crypto';
-import { bareAddress } from './mail-parse.js';
 
 /**
  * What `GET /messages` returns, newest first. `to` holds the envelope recipients
@@ -14,9 +13,19 @@ import { bareAddress } from './mail-parse.js';
  *   html: string,
  *   receivedAt: string,
  *   headerTo: string[],
- *   attachments: import('./mail-parse.js').AttachmentInfo[]
+ *   attachments: AttachmentInfo[]
  * }} StoredMessage
+ * @typedef {{ filename: string | null, contentType: string, size: number }} AttachmentInfo
  */
+
+/**
+ * The address out of `Name <a@b>` (or a bare address), lower-cased.
+ * @param {string} value
+ */
+function bareAddress(value) {
+	const angle = /<([^>]*)>/.exec(value);
+	return (angle ? angle[1] : value).trim().toLowerCase();
+}
 
 /** Old messages are dropped beyond this, so a long `npm start` session cannot grow without end. */
 const MAX_MESSAGES = 1000;

@@ -92,6 +92,28 @@ describe('fake SMTP and the mailbox API', () => {
 		expect((await fetch(`${fakes.httpUrl}/messages`, { method: 'DELETE' })).status).toBe(200);
 		expect(await messages()).toEqual([]);
 	});
+	it('keeps Bcc recipients in the envelope only, and lists attachments without their content', async () => {
+		const transport = nodemailer.createTransport({ host: '127.0.0.1', port: fakes.smtpPort, secure: false });
+		const pdf = Buffer.from('%PDF-1.4\n% datasheet stand-in\n');
+		await transport.sendMail({
+			from: 'no-reply@cellsitter.test',
+			to: 'Builder <builder@example.test>',
+			bcc: 'watcher@example.test',
+			subject: 'Datasheet attached',
+			text: 'See the attached datasheet.',
+			attachments: [{ filename: 'cell-datasheet.pdf', content: pdf, contentType: 'application/pdf' }]
+		});
+		transport.close();
+
+		const [mail] = (await messages('?to=watcher@example.test')) as (MessageJson & {
+			headerTo: string[];
+			attachments: { filename: string; contentType: string; size: number }[];
+		})[];
+		expect(mail.subject).toBe('Datasheet attached');
+		expect(mail.to.map((a) => a.toLowerCase()).sort()).toEqual(['builder@example.test', 'watcher@example.test']);
+		expect(mail.headerTo).toEqual(['Builder <builder@example.test>']);
+		expect(mail.attachments).toEqual([{ filename: 'cell-datasheet.pdf', contentType: 'application/pdf', size: pdf.length }]);
+	});
 });
 
 describe('fake OAuth 2.0 provider', () => {
