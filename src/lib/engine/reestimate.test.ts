@@ -1,7 +1,6 @@
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { Solver } from 'odex';
 import { describe, expect, it } from 'vitest';
-import { estimateCharge } from './charge';
 import { reestimate, type StepReading } from './reestimate';
 import { at, prng } from './test-support';
 
@@ -53,8 +52,6 @@ describe('reestimate', () => {
 
 	it('corrects itself: a slower logged taper than the model expects leaves more time, a faster one less', () => {
 		const base = { chemistry: 'nmc' as const, capacityAh: 16, setVolts: 4.2, amps: 10 };
-		const model = estimateCharge({ ...base, startSoc: 0.9 });
-		if (!model.ok) throw new Error();
 		const slow = reestimate({ ...base, readings: taper(5, 3, 10, 4, 0.25), now: at(10.75) });
 		const fast = reestimate({ ...base, readings: taper(5, 0.3, 10, 4, 0.25), now: at(10.75) });
 		const noFit = reestimate({ ...base, readings: [{ at: at(10.75), volts: 4.2, amps: 5 * Math.exp(-0.75 / 3) }], now: at(10.75) });
@@ -82,6 +79,24 @@ describe('reestimate', () => {
 		expect(r).toMatchObject({ ok: true, phase });
 		if (r.ok && phase === 'done') expect(r.remainingHours).toBe(0);
 		if (r.ok && phase !== 'done') expect(r.remainingHours).toBeGreaterThan(0);
+	});
+
+	it('CC, worked by hand: 3.9 V at 10 A into a 16 Ah NMC group set to 4.20 V', () => {
+		const r = reestimate({ chemistry: 'nmc', capacityAh: 16, setVolts: 4.2, amps: 10, readings: [{ at: at(3), volts: 3.9, amps: 10 }], now: at(3) });
+		// CC→CV at 1 − 0.25 × 10/16 = 0.84375 (BU-409/TI). On the IEEE TIM 2025 NMC table that rests at
+		// 4.0664 + 0.0457 × 0.00455 / 0.1156 = 4.068199 V, so during CC the terminal reads 4.2 − 4.068199
+		// = 0.131801 V above rest. 3.9 V at 10 A then rests at 3.768199 V:
+		// 0.4523 + 0.3869 × (3.768199 − 3.6941) / 0.3723 = 0.529305.
+		// Left: CC (0.84375 − 0.529305) × 16 / 10 = 0.503113 h + CV 1.75 × 2.5 × ln 12.5 / 9.2 = 1.201094 h.
+		expect(r).toMatchObject({ ok: true, phase: 'cc', socNow: expect.closeTo(0.529305, 5), remainingHours: expect.closeTo(1.704206, 5) });
+	});
+
+	it('CV with one reading (no fit), worked by hand: 4.20 V at 4 A', () => {
+		const r = reestimate({ chemistry: 'nmc', capacityAh: 16, setVolts: 4.2, amps: 10, readings: [{ at: at(3), volts: 4.2, amps: 4 }], now: at(3) });
+		// The taper runs from 10 A at 0.84375 to 0.8 A (0.05C, BU-808) at 1: 4 A is (4 − 0.8) / 9.2 = 0.347826
+		// of the way up, so soc = 1 − 0.347826 × 0.15625 = 0.945652; left 1.75 × 2.5 / 9.2 × ln(4 / 0.8) = 0.765358 h.
+		expect(r).toMatchObject({ ok: true, phase: 'cv', socNow: expect.closeTo(0.945652, 5), remainingHours: expect.closeTo(0.765358, 5) });
+		expect(r.ok && r.fittedTauHours).toBeUndefined();
 	});
 
 	it('CC: time passed since the last reading comes off the remaining time', () => {

@@ -23,6 +23,16 @@ describe('scheduleLongestFirst', () => {
 		expect(r.lowerBoundHours).toBe(15); // max(8, 30 / 2) — references.md §7
 	});
 
+	it('4,5,6,7,8 on three machines, worked by hand: longest first gives 8 | 7+4 | 6+5 = 11; bound max(8, 30 / 3) = 10', () => {
+		const d = [4, 5, 6, 7, 8];
+		const r = schedule(d, 3);
+		// 8, 7, 6 open the three machines; 5 goes to the least loaded (6) → 11; 4 to the 7 → 11.
+		expect(loads(d, r.assignment).sort((a, b) => b - a)).toEqual([11, 11, 8]);
+		expect(r.makespanHours).toBe(11);
+		expect(r.lowerBoundHours).toBe(10); // references.md §7: max(longest job, total / m)
+		expect(enumeratedMakespan(d, 3)).toBe(11); // 10 is impossible: no job fits beside the 8 (all ≥ 4), and 22 h left exceeds 2 × 10
+	});
+
 	it("Graham's tight instance {3,3,2,2,2} on two machines → 7 against the optimum 6 (Graham 1969; optimum by yalps)", () => {
 		const d = [3, 3, 2, 2, 2];
 		const r = schedule(d, 2);
