@@ -3,7 +3,9 @@ export class ApiError extends Error {
 	constructor(
 		readonly status: number,
 		message: string,
-		readonly errors: { path: string; message: string }[] = []
+		readonly errors: { path: string; message: string }[] = [],
+		/** The server's reason code, when it gives one (e.g. 'pack-changed'). */
+		readonly reason?: string
 	) {
 		super(message);
 	}
@@ -17,7 +19,7 @@ export async function requestJson<T>(url: string, init: { method?: string; body?
 	});
 	const body = await response.json().catch(() => null);
 	if (!response.ok) {
-		throw new ApiError(response.status, body?.message ?? `The server answered ${response.status}.`, body?.errors ?? []);
+		throw new ApiError(response.status, body?.message ?? `The server answered ${response.status}.`, body?.errors ?? [], body?.reason);
 	}
 	return body as T;
 }

@@ -30,15 +30,21 @@ export function packCellsQuery(workshop: string, packId: string) {
 	};
 }
 
-export type Proposal = Match & { eligible: number; excludedSuspect: number; excludedRejected: number };
+export type Proposal = Match & {
+	eligible: number;
+	excludedSuspect: number;
+	excludedRejected: number;
+	/** The batch this proposal was made from; accepting sends it back. */
+	version: string;
+};
 
 export function proposeMatching(workshop: string, packId: string, includeSuspect: boolean) {
 	return requestJson<Proposal>(`${api(workshop, packId)}/matching`, { method: 'POST', body: { includeSuspect } });
 }
 
-export function acceptMatching(workshop: string, packId: string, groups: string[][], replace: boolean) {
+export function acceptMatching(workshop: string, packId: string, groups: string[][], replace: boolean, version: string) {
 	return requestJson<{ ok: true; placed: number; spares: number }>(`${api(workshop, packId)}/matching`, {
 		method: 'PUT',
-		body: { groups, replace }
+		body: { groups, replace, version }
 	});
 }

@@ -3,16 +3,16 @@
  * of the engine's inspection — computed whenever the batch is read, so they are never stale.
  */
 import { error } from '@sveltejs/kit';
-import { and, asc, eq, ne } from 'drizzle-orm';
+import { and, asc, eq, ne, sql } from 'drizzle-orm';
 import { inspectCells, type CellVerdict } from '$lib/engine';
 import { parseCellCsv, type CellRow, type RowError } from '$lib/cells-csv';
 import { cellLabelKey } from '$lib/schemas/cells';
 import { requirePermission, type Member } from './auth/permissions';
 import type { CellSpecWithChemistry } from './cell-specs';
 import { getCellSpec } from './cell-specs';
-import { db, sqlClient } from './db';
+import { db, type Tx } from './db';
 import { isUniqueViolation } from './db/errors';
-import { cells, packGroups, type Cell, type Pack } from './db/schema';
+import { cells, packGroups, packs, type Cell, type Pack } from './db/schema';
 import { newId } from './ids';
 import { requirePack } from './packs';
 
@@ -57,11 +57,30 @@ export async function listBatch(member: Member, packId: string): Promise<Batch> 
 
 export type AddCellsResult =
 	| { ok: true; imported: number }
-	| { ok: false; errors: RowError[]; message: string };
+	| { ok: false; reason?: 'duplicate-label'; errors: RowError[]; message: string };
+
+/** The refusal for labels already in the batch (a conflict with what is stored: HTTP 409). */
+function duplicateLabels(rows: CellRow[], taken: Set<string>, rowOf: (i: number) => number): AddCellsResult | null {
+	const errors: RowError[] = rows.flatMap((r, i) =>
+		taken.has(cellLabelKey(r.label))
+			? [{ row: rowOf(i), field: 'label', message: `row ${rowOf(i)}: a cell labelled “${r.label}” is already in this batch` }]
+			: []
+	);
+	if (!errors.length) return null;
+	const named = errors.slice(0, 3).map((e) => `“${rows.find((r, i) => rowOf(i) === e.row)!.label}”`);
+	return {
+		ok: false,
+		reason: 'duplicate-label',
+		errors,
+		message: `Nothing was imported: ${named.join(', ')}${errors.length > 3 ? ` and ${errors.length - 3} more` : ''} ${errors.length === 1 ? 'is' : 'are'} already in the batch (labels count as the same regardless of case).`
+	};
+}
 
 /**
  * Adds measured cells to the batch, all or nothing. `rowOf` maps a cell's position to the row
- * number shown to the person (a CSV's line, or the entry row).
+ * number shown to the person (a CSV's line, or the entry row). A label already in the batch —
+ * also one that a concurrent import stored a moment earlier (cells_pack_label_lower_key) — is a
+ * `duplicate-label` refusal naming it.
  */
 export async function addCells(
 	member: Member,
@@ -73,36 +92,45 @@ export async function addCells(
 	await requirePack(member, packId);
 	if (rows.length === 0) return { ok: false, errors: [], message: 'There are no cells to add.' };
 
-	// Labels count as the same regardless of case, as in the CSV check (cellLabelKey).
-	const existing = new Set(
-		(await db.select({ label: cells.label }).from(cells).where(eq(cells.packId, packId))).map((r) =>
-			cellLabelKey(r.label)
-		)
-	);
-	const errors: RowError[] = rows.flatMap((r, i) =>
-		existing.has(cellLabelKey(r.label))
-			? [{ row: rowOf(i), field: 'label', message: `row ${rowOf(i)}: a cell labelled “${r.label}” is already in this batch` }]
-			: []
-	);
-	if (errors.length) return { ok: false, errors, message: 'Nothing was imported: some labels are already in the batch.' };
-
-	// One statement over unnest()ed columns: atomic, and fast for 10,000 rows (a drizzle
-	// multi-row insert of that size spends seconds building the query).
-	// drizzle sets postgres.js to pass timestamps as text.
-	const now = new Date().toISOString();
-	const by = member.user.id;
-	await sqlClient()`
-		insert into cells (id, pack_id, label, arrival_volts, resistance_milliohms, capacity_ah,
-			created_by, updated_by, created_at, updated_at)
-		select t.id, ${packId}, t.label, t.volts, t.r, t.c, ${by}, ${by}, ${now}::timestamptz, ${now}::timestamptz
-		from unnest(
-			${rows.map(() => newId())}::text[],
-			${rows.map((r) => r.label)}::text[],
-			${rows.map((r) => r.volts)}::float8[],
-			${rows.map((r) => r.resistanceMilliOhms)}::float8[],
-			${rows.map((r) => r.capacityAh)}::float8[]
-		) as t(id, label, volts, r, c)`;
-	return { ok: true, imported: rows.length };
+	const storedLabels = async (client: Tx | typeof db) =>
+		new Set(
+			(await client.select({ label: cells.label }).from(cells).where(eq(cells.packId, packId))).map((r) =>
+				cellLabelKey(r.label)
+			)
+		);
+	try {
+		return await db.transaction(async (tx) => {
+			// A share lock on the pack: imports run side by side, but wait for an accepted matching
+			// or a topology change (which lock it for update) and so never land in the middle of one.
+			await tx.select({ id: packs.id }).from(packs).where(eq(packs.id, packId)).for('share');
+			const refused = duplicateLabels(rows, await storedLabels(tx), rowOf);
+			if (refused) return refused;
+			// One statement over unnest()ed columns: atomic, five parameters however many rows
+			// (PostgreSQL takes at most 65,535 per statement), and fast for 10,000 rows.
+			// drizzle passes timestamps to postgres.js as text.
+			const now = new Date().toISOString();
+			const by = member.user.id;
+			await tx.execute(sql`
+				insert into cells (id, pack_id, label, arrival_volts, resistance_milliohms, capacity_ah,
+					created_by, updated_by, created_at, updated_at)
+				select t.id, ${packId}, t.label, t.volts, t.r, t.c, ${by}, ${by}, ${now}::timestamptz, ${now}::timestamptz
+				from unnest(
+					${sql.param(rows.map(() => newId()))}::text[],
+					${sql.param(rows.map((r) => r.label))}::text[],
+					${sql.param(rows.map((r) => r.volts))}::float8[],
+					${sql.param(rows.map((r) => r.resistanceMilliOhms))}::float8[],
+					${sql.param(rows.map((r) => r.capacityAh))}::float8[]
+				) as t(id, label, volts, r, c)`);
+			return { ok: true as const, imported: rows.length };
+		});
+	} catch (e) {
+		// A concurrent import committed one of these labels after our check.
+		if (isUniqueViolation(e, 'cells_pack_label_lower_key')) {
+			const refused = duplicateLabels(rows, await storedLabels(db), rowOf);
+			if (refused) return refused;
+		}
+		throw e;
+	}
 }
 
 /** Imports a CSV of arrival measurements: every row valid, or nothing written. */

@@ -139,20 +139,28 @@ export async function createPack(member: Member, input: PackInput): Promise<Pack
 
 /**
  * Changes a pack. A new topology or cell spec clears the matching (the cells go back to unsorted)
- * and adds or removes groups — all in one transaction.
+ * and adds or removes groups — all in one transaction that starts by locking the pack row and
+ * reads the pack again under the lock, so two edits, or an edit and an accepted matching
+ * (acceptMatching locks the same row), never interleave: the later one sees what the earlier wrote.
  */
 export async function updatePack(member: Member, packId: string, input: Partial<PackInput>): Promise<PackWriteResult> {
 	requirePermission(member, 'packs.edit');
-	const current = await requirePack(member, packId);
+	await requirePack(member, packId);
 	const refused = await checkRefs(member, input);
 	if (refused) return refused;
-	const series = input.series ?? current.series;
-	const topologyChanged =
-		series !== current.series ||
-		(input.parallel ?? current.parallel) !== current.parallel ||
-		(input.cellSpecId ?? current.cellSpecId) !== current.cellSpecId;
 
 	return db.transaction(async (tx) => {
+		const [current] = await tx
+			.select()
+			.from(packs)
+			.where(and(eq(packs.id, packId), eq(packs.workshopId, member.workshop.id)))
+			.for('update');
+		if (!current) error(404, 'Not found');
+		const series = input.series ?? current.series;
+		const topologyChanged =
+			series !== current.series ||
+			(input.parallel ?? current.parallel) !== current.parallel ||
+			(input.cellSpecId ?? current.cellSpecId) !== current.cellSpecId;
 		let clearedAssignment = false;
 		if (topologyChanged) {
 			const cleared = await tx

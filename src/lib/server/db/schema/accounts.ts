@@ -28,6 +28,8 @@ export const users = pgTable(
 	(t) => [
 		uniqueIndex('users_email_key').on(t.email),
 		check('users_email_lower', sql`${t.email} = lower(${t.email})`),
+		// RFC 5321's longest usable address, as the sign-up schema says.
+		check('users_email_length', sql`char_length(${t.email}) between 1 and 254`),
 		check('users_name_length', sql`char_length(${t.name}) between 1 and 100`)
 	]
 );
@@ -137,7 +139,8 @@ export const invitations = pgTable(
 	(t) => [
 		uniqueIndex('invitations_token_hash_key').on(t.tokenHash),
 		index('invitations_workshop_idx').on(t.workshopId),
-		check('invitations_email_lower', sql`${t.email} = lower(${t.email})`)
+		check('invitations_email_lower', sql`${t.email} = lower(${t.email})`),
+		check('invitations_email_length', sql`char_length(${t.email}) between 1 and 254`)
 	]
 );
 export type Invitation = typeof invitations.$inferSelect;

@@ -18,7 +18,11 @@ export const chargers = pgTable(
 		notes: text('notes').notNull().default(''),
 		...audit()
 	},
-	(t) => [uniqueIndex('chargers_workshop_name_key').on(t.workshopId, t.name)]
+	(t) => [
+		uniqueIndex('chargers_workshop_name_key').on(t.workshopId, t.name),
+		// The lengths of chargerSchema (src/lib/schemas/chargers.ts).
+		check('chargers_text_lengths', sql`char_length(${t.name}) between 1 and 80 and char_length(${t.notes}) <= 2000`)
+	]
 );
 export type Charger = typeof chargers.$inferSelect;
 
@@ -41,9 +45,12 @@ export const chargerChannels = pgTable(
 	(t) => [
 		uniqueIndex('charger_channels_position_key').on(t.chargerId, t.position),
 		index('charger_channels_charger_idx').on(t.chargerId),
+		// The ranges of channelSchema (src/lib/schemas/chargers.ts).
 		check('charger_channels_limits', sql`${t.maxVolts} > 0 and ${t.maxVolts} <= 1000 and ${t.maxAmps} > 0 and ${t.maxAmps} <= 1000`),
-		check('charger_channels_watts', sql`${t.maxWatts} is null or ${t.maxWatts} > 0`),
-		check('charger_channels_balance', sql`${t.balanceAmps} is null or ${t.balanceAmps} > 0`),
+		check('charger_channels_watts', sql`${t.maxWatts} is null or (${t.maxWatts} > 0 and ${t.maxWatts} <= 100000)`),
+		check('charger_channels_balance', sql`${t.balanceAmps} is null or (${t.balanceAmps} > 0 and ${t.balanceAmps} <= 50)`),
+		check('charger_channels_name_length', sql`char_length(${t.name}) <= 40`),
+		check('charger_channels_position', sql`${t.position} between 1 and 16`),
 		check('charger_channels_series', sql`${t.maxSeriesCells} is null or ${t.maxSeriesCells} between 1 and 400`)
 	]
 );

@@ -5,6 +5,7 @@ import {
 	boolean,
 	check,
 	doublePrecision,
+	foreignKey,
 	index,
 	integer,
 	jsonb,
@@ -12,6 +13,7 @@ import {
 	pgTable,
 	text,
 	timestamp,
+	unique,
 	uniqueIndex
 } from 'drizzle-orm/pg-core';
 import { users, workshops } from './accounts';
@@ -60,6 +62,12 @@ export const chemistryProfiles = pgTable(
 	},
 	(t) => [
 		uniqueIndex('chemistry_profiles_workshop_name_key').on(t.workshopId, t.name),
+		// Target of cell_specs' same-workshop key.
+		unique('chemistry_profiles_id_workshop_key').on(t.id, t.workshopId),
+		check('chemistry_profiles_name_length', sql`char_length(${t.name}) between 1 and 80`),
+		check('chemistry_profiles_source_length', sql`char_length(${t.source}) <= 500`),
+		check('chemistry_profiles_discharge_temps', sql`${t.dischargeTempMinC} >= -40 and ${t.dischargeTempMaxC} <= 100`),
+		check('chemistry_profiles_rest_curve', sql`jsonb_typeof(${t.restCurve}) = 'array' and jsonb_array_length(${t.restCurve}) between 2 and 60`),
 		check(
 			'chemistry_profiles_volts_order',
 			sql`0 < ${t.minVolts} and ${t.minVolts} <= ${t.fullDischargeVolts} and ${t.fullDischargeVolts} < ${t.nominalVolts} and ${t.nominalVolts} < ${t.maxChargeVolts} and ${t.maxChargeVolts} <= 5`
@@ -80,23 +88,38 @@ export const cellSpecs = pgTable(
 		/** A built-in chemistry id of the engine (nmc, nca, lco, lmo, lfp, lto)… */
 		chemistryId: text('chemistry_id'),
 		/** …or one of the workshop's own profiles: exactly one of the two. */
-		chemistryProfileId: text('chemistry_profile_id').references(() => chemistryProfiles.id, {
-			onDelete: 'restrict'
-		}),
+		/** Same workshop as the spec: see the composite key below. */
+		chemistryProfileId: text('chemistry_profile_id'),
 		capacityAh: doublePrecision('capacity_ah').notNull(),
 		maxContinuousAmps: doublePrecision('max_continuous_amps').notNull(),
 		maxBurstAmps: doublePrecision('max_burst_amps'),
+		/** How long the cell may give maxBurstAmps, in seconds, as its datasheet says. */
+		maxBurstSeconds: integer('max_burst_seconds'),
 		maxChargeAmps: doublePrecision('max_charge_amps').notNull(),
 		resistanceMilliOhms: doublePrecision('resistance_milliohms'),
 		...audit()
 	},
 	(t) => [
 		uniqueIndex('cell_specs_workshop_name_key').on(t.workshopId, t.name),
+		// Target of packs' same-workshop key.
+		unique('cell_specs_id_workshop_key').on(t.id, t.workshopId),
+		// A workshop's own profile only (null for a built-in chemistry: MATCH SIMPLE skips the check).
+		foreignKey({
+			name: 'cell_specs_profile_same_workshop_fk',
+			columns: [t.chemistryProfileId, t.workshopId],
+			foreignColumns: [chemistryProfiles.id, chemistryProfiles.workshopId]
+		}).onDelete('restrict'),
+		check('cell_specs_name_length', sql`char_length(${t.name}) between 1 and 80`),
 		check('cell_specs_one_chemistry', sql`(${t.chemistryId} is null) <> (${t.chemistryProfileId} is null)`),
 		check('cell_specs_builtin', sql`${t.chemistryId} is null or ${t.chemistryId} in ('nmc','nca','lco','lmo','lfp','lto')`),
+		// The ranges of cellSpecSchema (src/lib/schemas/packs.ts).
 		check('cell_specs_capacity', sql`${t.capacityAh} > 0 and ${t.capacityAh} <= 2000`),
-		check('cell_specs_currents', sql`${t.maxContinuousAmps} > 0 and ${t.maxChargeAmps} > 0 and (${t.maxBurstAmps} is null or ${t.maxBurstAmps} >= ${t.maxContinuousAmps})`),
-		check('cell_specs_resistance', sql`${t.resistanceMilliOhms} is null or ${t.resistanceMilliOhms} > 0`)
+		check(
+			'cell_specs_currents',
+			sql`${t.maxContinuousAmps} > 0 and ${t.maxContinuousAmps} <= 5000 and ${t.maxChargeAmps} > 0 and ${t.maxChargeAmps} <= 5000 and (${t.maxBurstAmps} is null or (${t.maxBurstAmps} >= ${t.maxContinuousAmps} and ${t.maxBurstAmps} <= 10000))`
+		),
+		check('cell_specs_burst_seconds', sql`${t.maxBurstSeconds} is null or ${t.maxBurstSeconds} between 1 and 3600`),
+		check('cell_specs_resistance', sql`${t.resistanceMilliOhms} is null or (${t.resistanceMilliOhms} > 0 and ${t.resistanceMilliOhms} <= 10000)`)
 	]
 );
 export type CellSpec = typeof cellSpecs.$inferSelect;
@@ -109,9 +132,8 @@ export const packs = pgTable(
 		id: text('id').primaryKey(),
 		workshopId: workshopRef(),
 		name: text('name').notNull(),
-		cellSpecId: text('cell_spec_id')
-			.notNull()
-			.references(() => cellSpecs.id, { onDelete: 'restrict' }),
+		/** Same workshop as the pack: see the composite key below. */
+		cellSpecId: text('cell_spec_id').notNull(),
 		series: integer('series').notNull(),
 		parallel: integer('parallel').notNull(),
 		bmsFitted: boolean('bms_fitted').notNull().default(false),
@@ -126,9 +148,19 @@ export const packs = pgTable(
 	},
 	(t) => [
 		index('packs_workshop_idx').on(t.workshopId),
+		foreignKey({
+			name: 'packs_cell_spec_same_workshop_fk',
+			columns: [t.cellSpecId, t.workshopId],
+			foreignColumns: [cellSpecs.id, cellSpecs.workshopId]
+		}).onDelete('restrict'),
+		// The ranges of packSchema (src/lib/schemas/packs.ts).
 		check('packs_topology', sql`${t.series} between 1 and 400 and ${t.parallel} between 1 and 200`),
 		check('packs_balance', sql`${t.bmsBalanceAmps} is null or (${t.bmsBalanceAmps} > 0 and ${t.bmsBalanceAmps} <= 50)`),
-		check('packs_peak', sql`${t.measuredPeakAmps} is null or ${t.measuredPeakAmps} >= 0`)
+		check('packs_peak', sql`${t.measuredPeakAmps} is null or (${t.measuredPeakAmps} >= 0 and ${t.measuredPeakAmps} <= 100000)`),
+		check(
+			'packs_text_lengths',
+			sql`char_length(${t.name}) between 1 and 80 and char_length(${t.measuredPeakNote}) <= 500 and char_length(${t.notes}) <= 5000`
+		)
 	]
 );
 export type Pack = typeof packs.$inferSelect;
@@ -145,7 +177,9 @@ export const packGroups = pgTable(
 	},
 	(t) => [
 		uniqueIndex('pack_groups_pack_index_key').on(t.packId, t.index),
-		check('pack_groups_index', sql`${t.index} >= 1`)
+		// Target of cells' same-pack key.
+		unique('pack_groups_id_pack_key').on(t.id, t.packId),
+		check('pack_groups_index', sql`${t.index} between 1 and 400`)
 	]
 );
 export type PackGroup = typeof packGroups.$inferSelect;
@@ -165,12 +199,22 @@ export const cells = pgTable(
 		resistanceMilliOhms: doublePrecision('resistance_milliohms'),
 		capacityAh: doublePrecision('capacity_ah'),
 		placement: cellPlacementEnum('placement').notNull().default('unsorted'),
-		groupId: text('group_id').references(() => packGroups.id, { onDelete: 'set null' }),
+		/**
+		 * A group of the same pack (composite key below). No "on delete set null": a placed cell
+		 * must keep its group (cells_group_placement), so a group is removed only once it is empty.
+		 */
+		groupId: text('group_id'),
 		...audit()
 	},
 	(t) => [
-		uniqueIndex('cells_pack_label_key').on(t.packId, t.label),
+		// Labels differ regardless of case within a batch, as cellLabelKey says.
+		uniqueIndex('cells_pack_label_lower_key').on(t.packId, sql`lower(${t.label})`),
 		index('cells_group_idx').on(t.groupId),
+		foreignKey({
+			name: 'cells_group_same_pack_fk',
+			columns: [t.groupId, t.packId],
+			foreignColumns: [packGroups.id, packGroups.packId]
+		}),
 		check('cells_volts', sql`${t.arrivalVolts} >= 0 and ${t.arrivalVolts} <= 5`),
 		check('cells_resistance', sql`${t.resistanceMilliOhms} is null or (${t.resistanceMilliOhms} > 0 and ${t.resistanceMilliOhms} <= 10000)`),
 		check('cells_capacity', sql`${t.capacityAh} is null or (${t.capacityAh} > 0 and ${t.capacityAh} <= 2000)`),

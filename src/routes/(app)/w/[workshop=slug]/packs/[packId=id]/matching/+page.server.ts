@@ -1,6 +1,6 @@
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listBatch } from '$lib/server/cells';
-import { matchingCapacity, savedAssignment } from '$lib/server/matching';
+import { batchVersion, matchingCapacity, savedAssignment } from '$lib/server/matching';
 import type { PageServerLoad } from './$types';
 
 // Proposing and accepting go through the JSON API (docs/api.md) from the page.
@@ -19,6 +19,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			verdict: c.verdict,
 			placement: c.placement
 		})),
-		saved: savedAssignment(batch.cells, pack.series)
+		saved: savedAssignment(batch.cells, pack.series, pack.parallel),
+		/** What the saved assignment was read from: accepting it (with swaps) sends it back. */
+		version: batchVersion(pack, batch.cells)
 	};
 };

@@ -1,6 +1,6 @@
 import { json } from '@sveltejs/kit';
 import { endpoint, problem, readJson, requireApiMember } from '$lib/server/api';
-import { acceptMatching, proposeMatching } from '$lib/server/matching';
+import { acceptMatching, acceptStatus, proposeMatching } from '$lib/server/matching';
 import { matchingAcceptSchema, matchingProposalSchema } from '$lib/schemas/packs';
 import type { RequestHandler } from './$types';
 
@@ -22,6 +22,6 @@ export const PUT: RequestHandler = endpoint(async (event) => {
 	const input = await readJson(request, matchingAcceptSchema);
 	if (input instanceof Response) return input;
 	const result = await acceptMatching(member, params.packId, input);
-	if (!result.ok) return problem(result.reason === 'would-replace' ? 409 : 400, { message: result.message });
+	if (!result.ok) return problem(acceptStatus(result.reason), { message: result.message, reason: result.reason });
 	return json(result);
 });
