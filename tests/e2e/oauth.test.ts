@@ -4,7 +4,7 @@ import { signOut, uniqueEmail } from './helpers';
 test('sign in through the local OAuth provider, first time and again', async ({ page }) => {
 	const email = uniqueEmail('oauth');
 	await page.goto('/login');
-	await page.getByRole('link', { name: /Continue with Local test provider/ }).click();
+	await page.getByRole('link', { name: /Sign in with Local test provider/ }).click();
 
 	// The fake provider's own page (authorize → code; state and PKCE are checked on the way back).
 	await page.getByLabel('E-mail').fill(email);
@@ -18,7 +18,7 @@ test('sign in through the local OAuth provider, first time and again', async ({ 
 	await expect(page).toHaveURL(/\/w\/oakley-bench(-\d+)?\/packs$/);
 
 	await signOut(page);
-	await page.getByRole('link', { name: /Continue with Local test provider/ }).click();
+	await page.getByRole('link', { name: /Sign in with Local test provider/ }).click();
 	await page.getByLabel('E-mail').fill(email);
 	await page.getByRole('button', { name: 'Continue' }).click();
 	await expect(page).toHaveURL(/\/w\/oakley-bench(-\d+)?\/packs$/);
@@ -35,9 +35,18 @@ test('an OAuth identity with an e-mail already in use must sign in with the pass
 	await expect(page).toHaveURL(/\/packs$/);
 	await signOut(page);
 
-	await page.getByRole('link', { name: /Continue with Local test provider/ }).click();
+	await page.getByRole('link', { name: /Sign in with Local test provider/ }).click();
 	await page.getByLabel('E-mail').fill(email);
 	await page.getByRole('button', { name: 'Continue' }).click();
 	await expect(page).toHaveURL(/\/login\?notice=needs-password/);
 	await expect(page.getByText('An account with that e-mail already exists')).toBeVisible();
+});
+
+test('the provider buttons use our words and the configured name', async ({ page }) => {
+	await page.goto('/login');
+	await expect(page.getByRole('link', { name: 'Sign in with Local test provider' })).toBeVisible();
+	await expect(page.getByText(/continue with|generic oauth/i)).toHaveCount(0);
+	await page.goto('/signup');
+	await expect(page.getByRole('link', { name: 'Sign up with Local test provider' })).toBeVisible();
+	await expect(page.getByText(/continue with|generic oauth/i)).toHaveCount(0);
 });

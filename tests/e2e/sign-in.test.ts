@@ -38,3 +38,20 @@ test('sign-up shows field errors in plain words', async ({ page }) => {
 	await expect(page.getByText('Enter a valid e-mail address')).toBeVisible();
 	await expect(page.getByText('Use at least 10 characters.')).toBeVisible();
 });
+
+test('a next leading off the site lands in the app instead', async ({ page, baseURL }) => {
+	const email = uniqueEmail('offsite');
+	const slug = await signUp(page, { name: 'Ossian Tester', email, workshop: 'Ossian Bench' });
+	await signOut(page);
+	// Open-redirect shapes (OWASP Unvalidated Redirects cheat sheet): a browser reads `\\` as `/`
+	// and drops a tab, so each of these would name another host.
+	for (const next of ['//evil.example', '/\\evil.example', '/%09/evil.example', '/%5Cevil.example', 'https://evil.example']) {
+		await page.goto(`/login?next=${encodeURIComponent(next)}`);
+		await page.getByLabel('E-mail').fill(email);
+		await page.getByLabel('Password').fill(PASSWORD);
+		await page.getByRole('button', { name: 'Sign in' }).click();
+		await expect(page).toHaveURL(new RegExp(`/w/${slug}/packs$`));
+		expect(new URL(page.url()).origin).toBe(new URL(baseURL!).origin);
+		await signOut(page);
+	}
+});

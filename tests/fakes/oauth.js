@@ -5,6 +5,17 @@
 //   POST /oauth/authorize  → 303 to redirect_uri?code=…&state=…
 //   POST /oauth/token      → { access_token, token_type: 'Bearer', expires_in }
 //   GET  /oauth/userinfo   → { sub, email, name, email_verified: true }
+//
+// Why our own and not oauth2-mock-server (judged against 8.2.3, which stays as an independent
+// reference in tests/integration/oauth-reference.test.ts): it is stricter where a sign-in bug
+// would hide. oauth2-mock-server accepts an authorize request without `state` and with PKCE
+// `plain` or none; checks `code_verifier` only when the token request sends one (a PKCE code
+// redeemed without its verifier gets tokens, against RFC 7636 §4.6); redeems any code string,
+// any number of times, with no expiry, for any client, secret or redirect_uri; and answers
+// userinfo with `{ sub: "johndoe" }` whatever the token. This fake requires `state` and S256,
+// always checks the verifier, ties a code to its client and redirect_uri, keeps it single use
+// for 60 s (a replay revokes its tokens), checks the client secret and the bearer token, and
+// shows a sign-in page, so each e-mail typed there is its own stable account in browser tests.
 import { createHash, randomBytes } from 'node:crypto';
 import { escapeHtml, readBody, redirect, sendHtml, sendJson } from './http-util.js';
 

@@ -33,7 +33,9 @@ export const serverEnvSchema = z
 		MAIL_FROM: z.string().default('Cellsitter <no-reply@cellsitter.local>'),
 		GITHUB_CLIENT_ID: z.string().optional(),
 		GITHUB_CLIENT_SECRET: z.string().optional(),
-		OAUTH_NAME: z.string().default('Generic OAuth'),
+		// The provider's own name, as its sign-in button says it; without it the button names the
+		// authorize URL's host ($lib/server/auth/oauth).
+		OAUTH_NAME: z.string().trim().max(60, 'OAUTH_NAME: use at most 60 characters').optional(),
 		OAUTH_CLIENT_ID: z.string().optional(),
 		OAUTH_CLIENT_SECRET: z.string().optional(),
 		OAUTH_AUTHORIZE_URL: optionalUrl,
