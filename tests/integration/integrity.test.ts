@@ -14,7 +14,9 @@ import { cells, cellSpecs, chargerChannels, chargers, packGroups, packs } from '
 import { newId } from '$lib/server/ids';
 import { acceptMatching, proposeMatching } from '$lib/server/matching';
 import { updatePack } from '$lib/server/packs';
-import { packFixture } from './helpers';
+import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
+import * as matchingApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/matching/+server';
+import { apiEvent, packFixture } from './helpers';
 
 // Invented measurements (test data, not check values): near-identical healthy NMC cells.
 const healthy = (n: number, prefix = 'K'): CellRow[] =>
@@ -58,6 +60,24 @@ describe('matching accept and pack edits (one lock on the pack row)', () => {
 		expect(await updatePack(f.owner, f.pack.id, { parallel: 3 })).toMatchObject({ ok: true });
 		const result = await acceptMatching(f.owner, f.pack.id, { groups: f.groups, replace: false, version: f.proposal.version });
 		expect(result).toEqual({ ok: false, reason: 'pack-changed', message: 'The pack changed while you were matching — propose again.' });
+		expect(await placedCount(f.pack.id)).toBe(0);
+	});
+
+	it('answers a stale accept through the API with 409 and the words to propose again', async () => {
+		const f = await matchedFixture(2, 2);
+		const ws = f.owner.workshop.slug;
+		const base = `/api/w/${ws}/packs/${f.pack.id}`;
+		const params = { workshop: ws, packId: f.pack.id };
+		// A cell added after the proposal changes the batch it was made from.
+		expect(await addCells(f.owner, f.pack.id, healthy(1, 'late'))).toMatchObject({ ok: true });
+		type Ev = Parameters<typeof matchingApi.PUT>[0];
+		const body = { groups: f.groups, version: f.proposal.version };
+		const response = await matchingApi.PUT(apiEvent<Ev>(f.owner, `${base}/matching`, params, { method: 'PUT', body }));
+		expect(response.status).toBe(409);
+		expect(await response.json()).toEqual({
+			message: 'The pack changed while you were matching — propose again.',
+			reason: 'pack-changed'
+		});
 		expect(await placedCount(f.pack.id)).toBe(0);
 	});
 
@@ -173,6 +193,24 @@ describe('labels are unique per batch regardless of case', () => {
 		expect(refused).toMatchObject({ ok: false, reason: 'duplicate-label' });
 		expect(refused && !refused.ok && refused.message).toMatch(/“[Xx]1” is already in the batch/);
 		expect(await db.$count(cells, eq(cells.packId, pack.id))).toBe(1);
+	});
+
+	it('answers the refused one of two concurrent API imports with 409 naming the label', async () => {
+		const { owner, pack } = await packFixture({ series: 2, parallel: 2 });
+		const ws = owner.workshop.slug;
+		const params = { workshop: ws, packId: pack.id };
+		type Ev = Parameters<typeof cellsApi.POST>[0];
+		const post = (label: string) =>
+			cellsApi.POST(
+				apiEvent<Ev>(owner, `/api/w/${ws}/packs/${pack.id}/cells`, params, {
+					method: 'POST',
+					body: { cells: [{ label, volts: 3.6 }] }
+				})
+			);
+		const responses = await Promise.all([post('Q7'), post('q7')]);
+		expect(responses.map((r) => r.status).sort()).toEqual([201, 409]);
+		const refused = await responses.find((r) => r.status === 409)!.json();
+		expect(refused.message).toMatch(/“[Qq]7” is already in the batch/);
 	});
 
 	it('refuses the same label in another case at the database', async () => {
