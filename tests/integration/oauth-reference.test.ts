@@ -8,6 +8,7 @@ import { OAuth2Server } from 'oauth2-mock-server';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { db } from '$lib/server/db';
 import { oauthPending } from '$lib/server/db/schema';
+import { providerInfo } from '$lib/server/auth/oauth';
 import { rereadServerEnv } from '$lib/server/env';
 import { GET as start } from '../../src/routes/login/oauth/[provider]/+server';
 import { GET as callback } from '../../src/routes/login/oauth/[provider]/callback/+server';
@@ -55,6 +56,15 @@ const redirectOf = (fn: () => unknown) =>
 		);
 
 describe('our client against oauth2-mock-server', () => {
+	it('the button names the configured provider, or its host when no name is set', () => {
+		expect(providerInfo('oauth')?.name).toBe('Reference server');
+		delete process.env.OAUTH_NAME;
+		rereadServerEnv();
+		expect(providerInfo('oauth')?.name).toBe(new URL(issuer).hostname);
+		process.env.OAUTH_NAME = 'Reference server';
+		rereadServerEnv();
+	});
+
 	it('signs a new identity in: PKCE S256 and state go out, the verifier comes back, userinfo is read', async () => {
 		const email = `reference-${crypto.randomUUID().slice(0, 8)}@example.test`;
 		const subject = `ref-${crypto.randomUUID()}`;
