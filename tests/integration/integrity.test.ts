@@ -15,6 +15,7 @@ import { newId } from '$lib/server/ids';
 import { acceptMatching, proposeMatching } from '$lib/server/matching';
 import { updatePack } from '$lib/server/packs';
 import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
+import * as cellsPage from '../../src/routes/(app)/w/[workshop=slug]/packs/[packId=id]/cells/+page.server';
 import * as matchingApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/matching/+server';
 import { apiEvent, packFixture } from './helpers';
 
@@ -211,6 +212,20 @@ describe('labels are unique per batch regardless of case', () => {
 		expect(responses.map((r) => r.status).sort()).toEqual([201, 409]);
 		const refused = await responses.find((r) => r.status === 409)!.json();
 		expect(refused.message).toMatch(/“[Qq]7” is already in the batch/);
+	});
+
+	it('answers a CSV import through the page with 409 naming a label the batch holds in another case', async () => {
+		const { owner, pack } = await packFixture({ series: 2, parallel: 2 });
+		expect(await addCells(owner, pack.id, healthy(2, 'R'))).toMatchObject({ ok: true });
+		const ws = owner.workshop.slug;
+		const url = new URL(`http://127.0.0.1/w/${ws}/packs/${pack.id}/cells`);
+		const form = new FormData();
+		form.append('csv', 'label,volts\nR9,3.6\nr2,3.6\n');
+		const event = { locals: { user: owner.user, session: null }, params: { workshop: ws, packId: pack.id }, url, request: new Request(url, { method: 'POST', body: form }) };
+		const answer = (await cellsPage.actions.importCsv(event as never)) as { status: number; data: { message: string } };
+		expect(answer.status).toBe(409);
+		expect(answer.data.message).toMatch(/“r2” is already in the batch/);
+		expect(await db.$count(cells, eq(cells.packId, pack.id))).toBe(2);
 	});
 
 	it('refuses the same label in another case at the database', async () => {

@@ -43,7 +43,8 @@ export const actions: Actions = guardActions<Actions>({
 		const { csv } = input.data;
 		if (!csv.trim()) return fail(400, { message: 'The file is empty.', errors: [] });
 		const result = await importCellCsv(member, params.packId, csv);
-		if (!result.ok) return fail(400, { message: result.message, errors: result.errors });
+		// A label already in the batch is a conflict with what is stored (409), like the JSON API says.
+		if (!result.ok) return fail(result.reason === 'duplicate-label' ? 409 : 400, { message: result.message, errors: result.errors });
 		return { imported: result.imported };
 	},
 	addCells: async ({ locals, params, url, request }) => {
@@ -65,7 +66,10 @@ export const actions: Actions = guardActions<Actions>({
 			return fail(400, { entryProblem: lines.slice(0, 5).join(' ') });
 		}
 		const result = await addCells(member, params.packId, parsed.data.cells);
-		if (!result.ok) return fail(400, { entryProblem: result.errors.map((e) => e.message).join(' ') || result.message });
+		if (!result.ok) {
+			const status = result.reason === 'duplicate-label' ? 409 : 400;
+			return fail(status, { entryProblem: result.errors.map((e) => e.message).join(' ') || result.message });
+		}
 		return { entryDone: `Saved ${result.imported} cell${result.imported === 1 ? '' : 's'}.` };
 	},
 	correct: async ({ locals, params, url, request }) => {
