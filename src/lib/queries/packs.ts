@@ -12,6 +12,8 @@ export type CellView = {
 	groupIndex: number | null;
 	verdict: CellVerdict['verdict'];
 	flags: CellFlag[];
+	/** Why the cell is suspect or rejected, in words. */
+	reasons: string[];
 };
 
 const api = (workshop: string, packId: string) => `/api/w/${workshop}/packs/${packId}`;
@@ -34,6 +36,10 @@ export type Proposal = Match & {
 	eligible: number;
 	excludedSuspect: number;
 	excludedRejected: number;
+	/** Suspect cells placed because the good ones were short, least risky first, with their reasons. */
+	suspectsUsed: { id: string; label: string; reasons: string[] }[];
+	suspectsLeft: number;
+	suspectNote: string | null;
 	/** The batch this proposal was made from; accepting sends it back. */
 	version: string;
 };

@@ -3,9 +3,11 @@
  * of the engine's inspection — computed whenever the batch is read, so they are never stale.
  */
 import { error } from '@sveltejs/kit';
-import { and, asc, eq, ne, sql } from 'drizzle-orm';
-import { inspectCells, type CellVerdict } from '$lib/engine';
+import { and, eq, ne, sql } from 'drizzle-orm';
+import { inspectBatch as inspectArrivals, type CellVerdict, type InspectionLimits } from '$lib/engine';
+import { cellReasons } from '$lib/cell-words';
 import { parseCellCsv, type CellRow, type RowError } from '$lib/cells-csv';
+import { sortByLabel } from '$lib/natural-sort';
 import { cellLabelKey } from '$lib/schemas/cells';
 import { requirePermission, type Member } from './auth/permissions';
 import type { CellSpecWithChemistry } from './cell-specs';
@@ -20,13 +22,14 @@ export type InspectedCell = Cell & {
 	groupIndex: number | null;
 	verdict: CellVerdict['verdict'];
 	flags: CellVerdict['flags'];
+	/** Why the cell is suspect or rejected, one plain sentence per flag (cell-words.ts). */
+	reasons: string[];
 };
 
-export type Batch = { pack: Pack; spec: CellSpecWithChemistry; cells: InspectedCell[] };
+export type Batch = { pack: Pack; spec: CellSpecWithChemistry; cells: InspectedCell[]; limits: InspectionLimits };
 
-/** Runs the engine's inspection over the whole batch. */
-export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupIndex: number | null })[]): InspectedCell[] {
-	const verdicts = inspectCells(
+function inspectWithLimits(spec: CellSpecWithChemistry, rows: (Cell & { groupIndex: number | null })[]) {
+	const inspection = inspectArrivals(
 		spec.chemistry,
 		rows.map((c) => ({
 			id: c.id,
@@ -35,12 +38,21 @@ export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupI
 			capacityAh: c.capacityAh ?? undefined
 		}))
 	);
-	if (!Array.isArray(verdicts)) throw new Error(`inspection failed: ${verdicts.reason}`);
-	const byId = new Map(verdicts.map((v) => [v.id, v]));
-	return rows.map((c) => ({ ...c, verdict: byId.get(c.id)!.verdict, flags: byId.get(c.id)!.flags }));
+	if ('ok' in inspection) throw new Error(`inspection failed: ${inspection.reason}`);
+	const byId = new Map(inspection.verdicts.map((v) => [v.id, v]));
+	const inspected = rows.map((c): InspectedCell => {
+		const { verdict, flags } = byId.get(c.id)!;
+		return { ...c, verdict, flags, reasons: cellReasons(flags, c, inspection.limits) };
+	});
+	return { cells: inspected, limits: inspection.limits };
 }
 
-/** The pack (when the member may see it), its spec, and its cells with group and verdict, by label. */
+/** Runs the engine's inspection over the whole batch (order kept). */
+export function inspectBatch(spec: CellSpecWithChemistry, rows: (Cell & { groupIndex: number | null })[]): InspectedCell[] {
+	return inspectWithLimits(spec, rows).cells;
+}
+
+/** The pack (when the member may see it), its spec, and its cells with group and verdict, by label in natural order. */
 export async function listBatch(member: Member, packId: string): Promise<Batch> {
 	const pack = await requirePack(member, packId);
 	const [spec, rows] = await Promise.all([
@@ -50,9 +62,10 @@ export async function listBatch(member: Member, packId: string): Promise<Batch> 
 			.from(cells)
 			.leftJoin(packGroups, eq(packGroups.id, cells.groupId))
 			.where(eq(cells.packId, packId))
-			.orderBy(asc(cells.label))
 	]);
-	return { pack, spec, cells: inspectBatch(spec, rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }))) };
+	// Sorted here, not by the database: its text order puts C10 before C2.
+	const inspected = inspectWithLimits(spec, sortByLabel(rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }))));
+	return { pack, spec, ...inspected };
 }
 
 export type AddCellsResult =
@@ -151,15 +164,27 @@ export async function importCellCsv(member: Member, packId: string, csv: string)
 
 export type CellCorrection = Partial<Pick<CellRow, 'label' | 'volts' | 'resistanceMilliOhms' | 'capacityAh'>>;
 
-/** Corrects one cell's measurements (technicians may; the topology stays as it is). */
+export type CorrectionResult =
+	| { ok: true; cell: InspectedCell; message: string }
+	| { ok: false; field: 'label'; message: string };
+
+/**
+ * Edits one cell's measurements (technicians may; the topology stays as it is) and judges the
+ * cell again against the whole batch, in one transaction that holds the pack row like every other
+ * writer of the batch. Its stored place follows the new verdict: a cell that was set aside as
+ * rejected and is no longer rejected (a typo fixed) goes back among the cells not placed; a loose
+ * cell that is now rejected is set aside; a cell in a group stays there — it is in the pack — and
+ * the pack and matching pages say that the group holds a rejected cell.
+ */
 export async function correctCell(
 	member: Member,
 	packId: string,
 	cellId: string,
 	patch: CellCorrection
-): Promise<{ ok: true; cell: Cell } | { ok: false; field: 'label'; message: string }> {
+): Promise<CorrectionResult> {
 	requirePermission(member, 'measurements.edit');
-	await requirePack(member, packId);
+	const pack = await requirePack(member, packId);
+	const spec = await getCellSpec(member, pack.cellSpecId);
 	const set = {
 		...(patch.label !== undefined ? { label: patch.label } : {}),
 		...(patch.volts !== undefined ? { arrivalVolts: patch.volts } : {}),
@@ -169,13 +194,40 @@ export async function correctCell(
 		updatedAt: new Date()
 	};
 	try {
-		const [cell] = await db
-			.update(cells)
-			.set(set)
-			.where(and(eq(cells.id, cellId), eq(cells.packId, packId)))
-			.returning();
-		if (!cell) error(404, 'Not found');
-		return { ok: true, cell };
+		return await db.transaction(async (tx) => {
+			await tx.select({ id: packs.id }).from(packs).where(eq(packs.id, packId)).for('update');
+			const [updated] = await tx
+				.update(cells)
+				.set(set)
+				.where(and(eq(cells.id, cellId), eq(cells.packId, packId)))
+				.returning({ id: cells.id });
+			if (!updated) error(404, 'Not found');
+			const rows = await tx
+				.select({ cell: cells, groupIndex: packGroups.index })
+				.from(cells)
+				.leftJoin(packGroups, eq(packGroups.id, cells.groupId))
+				.where(eq(cells.packId, packId));
+			const judged = inspectBatch(spec, rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex })));
+			const cell = judged.find((c) => c.id === cellId)!;
+			const isRejected = cell.verdict === 'reject';
+			const placement =
+				isRejected && (cell.placement === 'unsorted' || cell.placement === 'spare')
+					? 'rejected'
+					: !isRejected && cell.placement === 'rejected'
+						? 'unsorted'
+						: cell.placement;
+			if (placement !== cell.placement) {
+				await tx.update(cells).set({ placement }).where(and(eq(cells.id, cellId), eq(cells.packId, packId)));
+			}
+			const message = !isRejected
+				? cell.placement === 'rejected'
+					? `${cell.label} saved. It is no longer rejected and is back among the cells not placed.`
+					: `${cell.label} saved.`
+				: placement === 'group'
+					? `${cell.label} saved. It is now rejected and sits in G${cell.groupIndex}: ${cell.reasons.join('; ')}. Take it out of the pack and match again.`
+					: `${cell.label} saved. It is rejected: ${cell.reasons.join('; ')}.`;
+			return { ok: true as const, cell: { ...cell, placement }, message };
+		});
 	} catch (e) {
 		if (isUniqueViolation(e)) {
 			return { ok: false, field: 'label', message: `Another cell in this batch is labelled “${patch.label}”.` };

@@ -4,7 +4,7 @@
  */
 import { createHash } from 'node:crypto';
 import { and, asc, eq, ne, sql } from 'drizzle-orm';
-import { matchCells, type Match } from '$lib/engine';
+import { matchCells, pickLeastRiskySuspects, type Match } from '$lib/engine';
 import { requirePermission, type Member } from './auth/permissions';
 import { getCellSpec } from './cell-specs';
 import { inspectBatch, listBatch, type InspectedCell } from './cells';
@@ -17,39 +17,75 @@ export function matchingCapacity(cell: Pick<InspectedCell, 'capacityAh'>, nomina
 	return cell.capacityAh ?? nominalAh;
 }
 
+/** A suspect cell a proposal put into a group, and why it is suspect. */
+export type SuspectUse = { id: string; label: string; reasons: string[] };
+
 export type Proposal =
-	| ({ ok: true; eligible: number; excludedSuspect: number; excludedRejected: number; version: string } & Omit<Match, never>)
+	| ({
+			ok: true;
+			eligible: number;
+			excludedSuspect: number;
+			excludedRejected: number;
+			version: string;
+			/** The suspect cells placed, least risky first: only as many as the good cells were short. */
+			suspectsUsed: SuspectUse[];
+			/** Suspect cells left out; they are among the spares. */
+			suspectsLeft: number;
+			/** In words: which suspect cells were used and why, or null when none were. */
+			suspectNote: string | null;
+	  } & Omit<Match, never>)
 	| { ok: false; reason: 'not-enough-cells'; needed: number; usable: number; missing: number; message: string };
 
-/** The engine's proposal over the usable cells (suspect ones only when asked). */
+const cellsWord = (n: number) => `${n} cell${n === 1 ? '' : 's'}`;
+
+/**
+ * The engine's proposal over the good cells. With `includeSuspect`, a pack short of good cells
+ * takes only as many suspect cells as it is short, the least risky first (capacity shortfall,
+ * then high resistance, then low voltage — pickLeastRiskySuspects); the rest stay spares.
+ * Rejected cells never take part.
+ */
 export async function proposeMatching(
 	member: Member,
 	packId: string,
 	options: { includeSuspect: boolean }
 ): Promise<Proposal> {
 	requirePermission(member, 'packs.edit');
-	const { pack, spec, cells: batch } = await listBatch(member, packId);
-	const rejected = batch.filter((c) => c.verdict === 'reject' || c.placement === 'rejected');
-	const suspect = batch.filter((c) => c.verdict === 'suspect' && c.placement !== 'rejected');
-	const usable = batch.filter(
-		(c) => c.verdict !== 'reject' && c.placement !== 'rejected' && (options.includeSuspect || c.verdict !== 'suspect')
-	);
+	const { pack, spec, cells: batch, limits } = await listBatch(member, packId);
+	const isSetAside = (c: InspectedCell) => c.verdict === 'reject' || c.placement === 'rejected';
+	const rejected = batch.filter(isSetAside);
+	const good = batch.filter((c) => c.verdict === 'ok' && !isSetAside(c));
+	const suspect = batch.filter((c) => c.verdict === 'suspect' && !isSetAside(c));
 	const needed = pack.series * pack.parallel;
-	if (usable.length < needed) {
-		const missing = needed - usable.length;
+	const short = Math.max(0, needed - good.length);
+	const available = good.length + (options.includeSuspect ? suspect.length : 0);
+	if (available < needed) {
+		const missing = needed - available;
 		const hint =
 			!options.includeSuspect && suspect.length
-				? ` Including the ${suspect.length} suspect cell${suspect.length === 1 ? '' : 's'} would ${suspect.length >= missing ? 'be enough' : 'still not be enough'}.`
+				? ` Including suspect cells would ${suspect.length >= missing ? `use ${cellsWord(missing)} of the ${suspect.length} suspect, the least risky first` : `still leave ${cellsWord(missing - suspect.length)} missing`}.`
 				: '';
 		return {
 			ok: false,
 			reason: 'not-enough-cells',
 			needed,
-			usable: usable.length,
+			usable: available,
 			missing,
-			message: `${pack.series}S${pack.parallel}P needs ${needed} cells; ${usable.length} usable — ${missing} missing.${hint}`
+			message: `${pack.series}S${pack.parallel}P needs ${needed} cells; ${available} usable — ${missing} missing.${hint}`
 		};
 	}
+	const choice = pickLeastRiskySuspects(
+		suspect.map((c) => ({
+			id: c.id,
+			volts: c.arrivalVolts,
+			resistanceMilliOhms: c.resistanceMilliOhms ?? undefined,
+			capacityAh: c.capacityAh ?? undefined
+		})),
+		{ limits, verdicts: suspect.map((c) => ({ id: c.id, verdict: c.verdict, flags: c.flags })) },
+		options.includeSuspect ? short : 0
+	);
+	const byId = new Map(suspect.map((c) => [c.id, c]));
+	const used = choice.used.map((id) => byId.get(id)!);
+	const usable = [...good, ...used];
 	const match = matchCells({
 		cells: usable.map((c) => ({
 			id: c.id,
@@ -60,12 +96,23 @@ export async function proposeMatching(
 		parallel: pack.parallel
 	});
 	if (!match.ok) throw new Error(`matching failed: ${match.reason}`);
+	const suspectsUsed = used.map((c) => ({ id: c.id, label: c.label, reasons: c.reasons }));
+	const suspectNote = used.length
+		? `The good cells were ${cellsWord(short)} short, so the least risky suspect ${used.length === 1 ? 'cell went' : 'cells went'} in: ` +
+			used.map((c) => `${c.label} (${c.reasons.join('; ')})`).join(', ') +
+			(choice.left.length ? `. The other ${cellsWord(choice.left.length)} suspect stay spares.` : '.')
+		: null;
 	return {
 		...match,
+		// Suspect cells left out are spares too, as accepting makes them.
+		spares: [...match.spares, ...choice.left],
 		eligible: usable.length,
-		excludedSuspect: options.includeSuspect ? 0 : suspect.length,
+		excludedSuspect: choice.left.length,
 		excludedRejected: rejected.length,
-		version: batchVersion(pack, batch)
+		version: batchVersion(pack, batch),
+		suspectsUsed,
+		suspectsLeft: choice.left.length,
+		suspectNote
 	};
 }
 

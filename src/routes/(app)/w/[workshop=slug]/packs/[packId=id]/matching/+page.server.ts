@@ -17,8 +17,10 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			measured: c.capacityAh !== null,
 			resistanceMilliOhms: c.resistanceMilliOhms,
 			verdict: c.verdict,
-			placement: c.placement
+			placement: c.placement,
+			reasons: c.reasons
 		})),
+		nominalAh: batch.spec.capacityAh,
 		saved: savedAssignment(batch.cells, pack.series, pack.parallel),
 		/** What the saved assignment was read from: accepting it (with swaps) sends it back. */
 		version: batchVersion(pack, batch.cells)
