@@ -86,7 +86,8 @@ export const actions: Actions = guardActions<Actions>({
 		if (!parsed.success) return fail(400, { correctProblem: messagesOf(parsed.error.issues) });
 		const result = await correctCell(member, params.packId, form.cellId, parsed.data);
 		if (!result.ok) return fail(400, { correctProblem: result.message });
-		return { correctDone: `${result.cell.label} corrected.` };
+		// A cell that the edit leaves rejected is news to act on, not a plain confirmation.
+		return result.cell.verdict === 'reject' ? { correctWarning: result.message } : { correctDone: result.message };
 	},
 	remove: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
