@@ -124,8 +124,13 @@ describe('parseCellCsv: problems in plain words', () => {
 	});
 
 	it('counts a quoted value spread over two lines as one row', () => {
+		// The line break keeps the quoted label one row (2); a label may not hold one, so row 2 is
+		// refused for that, and the next problem is still counted as row 3.
 		const errors = errorsOf(parseCellCsv(`${header}\n"C1\nleft",3.6\nC2,x\n`));
-		expect(errors.map((e) => e.row)).toEqual([3]);
+		expect(errors.map((e) => [e.row, e.field])).toEqual([
+			[2, 'label'],
+			[3, 'volts']
+		]);
 	});
 
 	it('names both rows of a duplicate label, ignoring case', () => {
