@@ -30,12 +30,24 @@ export const cellSpecSchema = z
 		capacityAh: positive('Capacity', 2000),
 		maxContinuousAmps: positive('Continuous discharge current', 5000),
 		maxBurstAmps: optionalPositive('Burst discharge current', 10000).default(null),
+		/** How long the maker allows the burst current, seconds: 1 s to an hour, as the database checks. */
+		maxBurstSeconds: z
+			.number('The burst duration must be a whole number of seconds, or left empty.')
+			.int('The burst duration must be a whole number of seconds.')
+			.min(1, 'The burst duration must be at least 1 s.')
+			.max(3600, 'The burst duration must be at most 3600 s (one hour).')
+			.nullable()
+			.optional(),
 		maxChargeAmps: positive('Charge current', 5000),
 		resistanceMilliOhms: optionalPositive('Resistance', 10000).default(null)
 	})
 	.refine((v) => v.maxBurstAmps === null || v.maxBurstAmps >= v.maxContinuousAmps, {
 		message: 'Burst current cannot be below the continuous current.',
 		path: ['maxBurstAmps']
+	})
+	.refine((v) => v.maxBurstSeconds == null || v.maxBurstAmps !== null, {
+		message: 'Give the burst current too, or leave the duration empty.',
+		path: ['maxBurstSeconds']
 	});
 export type CellSpecInput = z.output<typeof cellSpecSchema>;
 

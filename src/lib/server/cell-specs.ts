@@ -68,6 +68,8 @@ function values(input: CellSpecInput) {
 		capacityAh: input.capacityAh,
 		maxContinuousAmps: input.maxContinuousAmps,
 		maxBurstAmps: input.maxBurstAmps,
+		// A duration means nothing without the burst current it limits (the schema refuses that too).
+		maxBurstSeconds: input.maxBurstAmps === null ? null : (input.maxBurstSeconds ?? null),
 		maxChargeAmps: input.maxChargeAmps,
 		resistanceMilliOhms: input.resistanceMilliOhms
 	};

@@ -51,8 +51,8 @@ export async function loadDemoPacks(tx: Tx, workshopId: string, people: People):
 		const [row] = await tx.insert(cellSpecs).values({ id: newId(), workshopId, ...by, ...values }).returning();
 		return row;
 	};
-	const nmc = await spec({ name: 'NMC 21700 4.0 Ah', chemistryId: 'nmc', capacityAh: 4.0, maxContinuousAmps: 15, maxBurstAmps: 30, maxChargeAmps: 4, resistanceMilliOhms: 16 });
-	const lfp = await spec({ name: 'LFP prismatic 105 Ah', chemistryId: 'lfp', capacityAh: 105, maxContinuousAmps: 105, maxBurstAmps: 210, maxChargeAmps: 52.5, resistanceMilliOhms: 0.3 });
+	const nmc = await spec({ name: 'NMC 21700 4.0 Ah', chemistryId: 'nmc', capacityAh: 4.0, maxContinuousAmps: 15, maxBurstAmps: 30, maxBurstSeconds: 10, maxChargeAmps: 4, resistanceMilliOhms: 16 });
+	const lfp = await spec({ name: 'LFP prismatic 105 Ah', chemistryId: 'lfp', capacityAh: 105, maxContinuousAmps: 105, maxBurstAmps: 210, maxBurstSeconds: 10, maxChargeAmps: 52.5, resistanceMilliOhms: 0.3 });
 	const nca = await spec({ name: 'NCA 18650 3.4 Ah', chemistryId: 'nca', capacityAh: 3.4, maxContinuousAmps: 10, maxChargeAmps: 1.7, resistanceMilliOhms: 35 });
 
 	// Cargo trike: 52 cells plus 4 spares; two came in low and stay out of the groups.

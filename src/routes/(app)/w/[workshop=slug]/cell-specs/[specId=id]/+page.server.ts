@@ -18,6 +18,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 				capacityAh: spec.capacityAh,
 				maxContinuousAmps: spec.maxContinuousAmps,
 				maxBurstAmps: spec.maxBurstAmps,
+				maxBurstSeconds: spec.maxBurstSeconds,
 				maxChargeAmps: spec.maxChargeAmps,
 				resistanceMilliOhms: spec.resistanceMilliOhms
 			},

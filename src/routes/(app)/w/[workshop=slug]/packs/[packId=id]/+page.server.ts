@@ -23,7 +23,12 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	};
 	return {
 		...view,
-		spec: { name: view.spec.name, chemistryName: view.spec.chemistry.name, capacityAh: view.spec.capacityAh },
+		spec: {
+			name: view.spec.name,
+			chemistryName: view.spec.chemistry.name,
+			capacityAh: view.spec.capacityAh,
+			maxBurstSeconds: view.spec.maxBurstSeconds
+		},
 		groups: stats.groups,
 		groupStats: { placed: stats.placed, spreadAh: stats.spreadAh, warnings: stats.warnings },
 		counts,
