@@ -53,8 +53,9 @@ export async function sendPasswordResetMail(data: PasswordResetMail): Promise<'s
 }
 
 export const passwordResetMail = defineJob<PasswordResetMail>({
-	// A mail server that is briefly away gets three more tries (30 s, then longer); after
-	// 15 minutes the person has likely asked again, so the job is not kept alive longer.
+	// A mail server that is briefly away gets three more tries, 30 s apart and doubling (about
+	// 3.5 minutes in all); longer, and the person has likely asked again. A try that hangs is
+	// given up after 60 s (the SMTP socket itself times out after 15 s, mail.ts).
 	options: { retryLimit: 3, retryDelay: 30, retryBackoff: true, expireInSeconds: 60 },
 	handle: sendPasswordResetMail
 });
