@@ -100,6 +100,24 @@ describe('matching accept and pack edits (one lock on the pack row)', () => {
 		expect(await placedCount(f.pack.id)).toBe(0);
 	});
 
+	it('never saves half an assignment when a cell of it is removed while the accept runs', async () => {
+		const f = await matchedFixture(3, 2);
+		const [removed] = f.groups[2];
+		const lockHolder = await sqlClient().reserve();
+		try {
+			// A removal in progress (what removeCell does to a loose cell), committed while the accept waits.
+			await lockHolder`begin`;
+			await lockHolder`delete from cells where id = ${removed}`;
+			const accepting = acceptMatching(f.owner, f.pack.id, { groups: f.groups, replace: false });
+			await untilSomeoneWaitsForALock();
+			await lockHolder`commit`;
+			expect(await accepting).toMatchObject({ ok: false, reason: 'unknown-cell' });
+		} finally {
+			lockHolder.release();
+		}
+		expect(await placedCount(f.pack.id)).toBe(0);
+	});
+
 	it('of two concurrent accepts of the same proposal, exactly one saves', async () => {
 		const f = await matchedFixture(4, 3, 3);
 		// A second assignment of the same proposal with two cells swapped between groups 1 and 2.

@@ -174,11 +174,14 @@ export async function acceptMatching(
 		const refuse = (reason: Extract<AcceptResult, { ok: false }>['reason'], message: string) =>
 			({ ok: false, reason, message }) as const;
 		if (!pack || pack.cellSpecId !== spec.id) return refuse('pack-changed', PACK_CHANGED_MESSAGE);
+		// The cells are locked too: a correction or a removal of one of them (which do not lock the
+		// pack) waits for this accept, or this read waits for it and sees what it wrote.
 		const rows = await tx
 			.select({ cell: cells, groupIndex: packGroups.index })
 			.from(cells)
 			.leftJoin(packGroups, eq(packGroups.id, cells.groupId))
-			.where(eq(cells.packId, packId));
+			.where(eq(cells.packId, packId))
+			.for('update', { of: cells });
 		const stored = rows.map((r) => ({ ...r.cell, groupIndex: r.groupIndex }));
 		if (input.version !== undefined && input.version !== batchVersion(pack, stored)) {
 			return refuse('pack-changed', PACK_CHANGED_MESSAGE);
@@ -221,7 +224,7 @@ export async function acceptMatching(
 			return placement === c.placement && groupId === c.groupId ? [] : [{ id: c.id, placement, groupId }];
 		});
 		if (changes.length) {
-			await tx.execute(sql`
+			const written = await tx.execute(sql`
 				update ${cells} set placement = v.placement::cell_placement, group_id = v.group_id,
 					updated_by = ${member.user.id}, updated_at = ${new Date().toISOString()}::timestamptz
 				from unnest(
@@ -230,6 +233,8 @@ export async function acceptMatching(
 					${sql.param(changes.map((c) => c.groupId))}::text[]
 				) as v(cell_id, placement, group_id)
 				where ${cells.id} = v.cell_id and ${cells.packId} = ${packId}`);
+			// Every row is locked above, so this holds; if not, roll back rather than save half.
+			if (written.count !== changes.length) throw new Error(`accept wrote ${written.count} of ${changes.length} cells`);
 		}
 		const spares = batch.filter((c) => c.placement !== 'rejected' && c.verdict !== 'reject').length - ids.length;
 		return { ok: true as const, placed: ids.length, spares };
