@@ -3,7 +3,7 @@
  * asleep or unattended must also say that someone stays awake and present, or forbid it. Fire services
  * advise never to charge while asleep or away (references.md §8).
  */
-const risky = /\b(overnight|night|asleep|sleep|sleeping|unattended|unwatched|walk away|while you are away)\b/i;
+const risky = /\b(overnight|night|asleep|while (?:you|they|we) sleep|unattended|unwatched|walk away|while you are away)\b/i;
 const guarded = /\b(awake|on watch|night watch|present|stay with|never|nobody is there|no one is there)\b/i;
 
 /** The sentences of `text` that mention a night or unattended charge without someone awake and present. */

@@ -2,6 +2,7 @@
 import { error } from '@sveltejs/kit';
 import { and, asc, count, eq, inArray, sql } from 'drizzle-orm';
 import type { PackRatings } from '$lib/engine';
+import { plainEngineMessage } from '$lib/engine-words';
 import { rateSpecPack } from '$lib/pack-ratings';
 import { can } from '$lib/permissions';
 import type { PackInput } from '$lib/schemas/packs';
@@ -219,7 +220,7 @@ export async function packView(pack: Pack, spec: CellSpecWithChemistry): Promise
 		ownerName: nameOf(pack.packOwnerId),
 		updatedByName: nameOf(pack.updatedBy),
 		ratings: rated.ok ? rated : null,
-		ratingsProblem: rated.ok ? null : (rated.detail ?? rated.reason)
+		ratingsProblem: rated.ok ? null : plainEngineMessage(rated)
 	};
 }
 
