@@ -11,7 +11,8 @@ import { formValuesOf } from '$lib/chemistry-form';
 import type { Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { cells, chargers, chemistryProfiles, cellSpecs, packs, workshops } from '$lib/server/db/schema';
-import { inputProblem } from '$lib/server/input-problems';
+import { endpoint } from '$lib/server/api';
+import { guardActions, inputProblem } from '$lib/server/input-problems';
 import * as packsApi from '../../src/routes/api/w/[workshop=slug]/packs/+server';
 import * as packApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/+server';
 import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
@@ -298,6 +299,10 @@ describe('control characters and bad shapes through the form actions', () => {
 		const tech = await joinAs(owner, 'technician');
 		const byTech = await outcome(() => workshopPage.actions.rename(formEvent(tech, `/w/${ws}/workshop`, { workshop: ws }, { name: '', timeZone: 'UTC' })));
 		expect(byTech.status).toBe(403);
+		for (const [name, action] of Object.entries(membersPage.actions)) {
+			const answer = await outcome(() => action(formEvent(tech, `/w/${ws}/workshop/members`, { workshop: ws }, { userId: owner.user.id, role: 'viewer' })));
+			expect(answer.status, name).toBe(403);
+		}
 	});
 
 	it('refuses member and invitation ids that are not ids', async () => {
@@ -331,5 +336,29 @@ describe('database errors that bad input can cause', () => {
 		expect(inputProblem(range)).toMatchObject({ status: 400 });
 
 		expect(inputProblem(new Error('a bug'))).toBeNull();
+	});
+
+	it('answers them from a form action and from an endpoint as 4xx, and lets bugs through as bugs', async () => {
+		const duplicateSpec = () =>
+			db.insert(cellSpecs).values({ id: specId, workshopId: owner.workshop.id, name: 'dup', chemistryId: 'nmc', capacityAh: 3, maxContinuousAmps: 10, maxChargeAmps: 3 });
+		const actions = guardActions({
+			race: async () => {
+				await duplicateSpec();
+				return {};
+			},
+			bug: async () => {
+				throw new Error('a bug');
+			}
+		});
+		await expect(actions.race({})).rejects.toMatchObject({ status: 409, body: { message: expect.stringMatching(/already saved/) } });
+		await expect(actions.bug({})).rejects.toThrow('a bug');
+
+		const handler = endpoint(async () => {
+			await duplicateSpec();
+			return new Response(null, { status: 201 });
+		});
+		const answer = await handler({});
+		expect(answer.status).toBe(409);
+		expect(((await answer.json()) as { message: string }).message).toMatch(/already saved/);
 	});
 });
