@@ -263,7 +263,7 @@ describe('parseCellCsvChunked', () => {
 		// Tiny slices cut at nearly every line end outside quotes, which is where slicing can go wrong.
 		for (const chars of text.length < 1000 ? [1, 2, 3, 5, 8, 13, sliceChars] : [sliceChars]) {
 			const progress: number[] = [];
-			const chunked = await parseCellCsvChunked(text, (f) => progress.push(f), { sliceChars: chars });
+			const chunked = await parseCellCsvChunked(text, (f) => progress.push(f), { chunkChars: chars });
 			expect(chunked, `slices of ${chars} characters`).toEqual(expected);
 			expect(progress.at(-1)).toBe(1);
 			expect(progress.every((f, i) => f >= 0 && f <= 1 && (i === 0 || f >= progress[i - 1]))).toBe(true);
@@ -279,7 +279,7 @@ describe('parseCellCsvChunked', () => {
 				fc.integer({ min: 1, max: 40 }),
 				async (headerLine, parts, sliceChars) => {
 					const text = headerLine + parts.join('');
-					expect(await parseCellCsvChunked(text, () => {}, { sliceChars })).toEqual(parseCellCsv(text));
+					expect(await parseCellCsvChunked(text, () => {}, { chunkChars: sliceChars })).toEqual(parseCellCsv(text));
 				}
 			),
 			{ numRuns: 500 }
@@ -297,7 +297,7 @@ describe('parseCellCsvChunked', () => {
 	it('lets other work run while it parses', async () => {
 		let ticks = 0;
 		const timer = setInterval(() => (ticks += 1), 0);
-		await parseCellCsvChunked(big, () => {}, { sliceChars: 4096 });
+		await parseCellCsvChunked(big, () => {}, { chunkChars: 4096 });
 		clearInterval(timer);
 		expect(ticks).toBeGreaterThan(0);
 	});

@@ -1,99 +1,22 @@
+/**
+ * The cell CSV (arrival measurements): the browser's preview and the server's import read a file
+ * through the same code. This module turns the text into records with papaparse — its own chunking
+ * when the browser wants to stay responsive — and hands them in order to the row checks
+ * (cells-csv-rows.ts), which read the header through cells-csv-columns.ts.
+ */
 import Papa from 'papaparse';
-import { CELL_BATCH_MAX_CELLS, CELL_LIMITS, cellLabelKey, type CellRow } from '$lib/schemas/cells';
-import { hasControlCharacter } from '$lib/schemas/text';
+import type { CellRow } from '$lib/schemas/cells';
+import { describeHeader, type CellCsvColumn } from './cells-csv-columns';
+import { createChecker, type CellCsvResult } from './cells-csv-rows';
 
 export { cellRowSchema } from '$lib/schemas/cells';
+export { parseDecimal, type CellCsvColumn } from './cells-csv-columns';
+export { CELL_CSV_MAX_LISTED_ERRORS, CELL_CSV_MAX_ROWS, type CellCsvResult, type RowError } from './cells-csv-rows';
 export type { CellRow };
-
-/** The template's column names: how messages name a column, whatever alias the file used. */
-export type CellCsvColumn = 'label' | 'volts' | 'resistance_mohm' | 'capacity_ah';
-
-/**
- * One problem in an uploaded file. `row` is the row a spreadsheet shows: the file's first line is
- * row 1 (normally the header), so the first cell below the header is row 2. Empty lines count,
- * because a spreadsheet shows them as empty rows; a leading Excel `sep=` line does not, because
- * Excel hides it. Row 0 means the whole file (a missing column, no cells, too many cells).
- * `message` is complete and plain; row problems start with "row N: ".
- */
-export interface RowError {
-	row: number;
-	field?: CellCsvColumn;
-	message: string;
-}
-
-/** On failure, `rows` still holds the valid rows so a preview can show them. */
-export type CellCsvResult =
-	| { ok: true; rows: CellRow[] }
-	| { ok: false; errors: RowError[]; rows: CellRow[] };
-
-export const CELL_CSV_MAX_ROWS = CELL_BATCH_MAX_CELLS;
-
-/** Problems listed one by one; past this a single line counts the rest (a wrong column repeats on every row). */
-export const CELL_CSV_MAX_LISTED_ERRORS = 100;
 
 /** Invented example values for a cylindrical Li-ion cell; the second row shows that mΩ and Ah may stay empty. */
 export const cellCsvTemplate =
 	'label,volts,resistance_mohm,capacity_ah\r\nA001,3.612,18.5,2.95\r\nA002,3.608,,\r\n';
-
-interface ColumnSpec {
-	column: CellCsvColumn;
-	/** Multiplier to the template's unit (mAh → Ah). */
-	scale: number;
-}
-
-const columnAliases: [ColumnSpec, string[]][] = [
-	[{ column: 'label', scale: 1 }, ['label', 'cell', 'cell_label', 'cell_id', 'cell_name', 'id', 'name']],
-	[
-		{ column: 'volts', scale: 1 },
-		['volts', 'volt', 'voltage', 'v', 'volts_v', 'voltage_v', 'arrival_volts', 'arrival_voltage']
-	],
-	[
-		{ column: 'resistance_mohm', scale: 1 },
-		[
-			'resistance_mohm',
-			'resistance',
-			'resistance_milliohm',
-			'resistance_milliohms',
-			'ir',
-			'ir_mohm',
-			'internal_resistance',
-			'internal_resistance_mohm',
-			'mohm'
-		]
-	],
-	[{ column: 'capacity_ah', scale: 1 }, ['capacity_ah', 'capacity', 'ah', 'measured_capacity_ah']],
-	// Cell testers usually report mAh; reading such a column as Ah would be off by a thousand.
-	[{ column: 'capacity_ah', scale: 0.001 }, ['capacity_mah', 'mah', 'measured_capacity_mah']]
-];
-
-const columnByHeader = new Map<string, ColumnSpec>(
-	columnAliases.flatMap(([spec, names]) => names.map((name): [string, ColumnSpec] => [name, spec]))
-);
-
-/** "Resistance (mΩ)" → "resistance_mohm"; the ohm sign, Greek capital omega and its lower case all read as "ohm". */
-function headerKey(name: string): string {
-	return name
-		.trim()
-		.toLowerCase()
-		.replace(/[\u03a9\u03c9\u2126]/g, 'ohm')
-		.replace(/[^a-z0-9]+/g, '_')
-		.replace(/^_+|_+$/g, '');
-}
-
-/** A trailing unit the value may carry ("3.61 V", "18 mΩ"), by column and scale. */
-function unitPattern(spec: ColumnSpec): RegExp {
-	if (spec.column === 'volts') return /\s*v$/i;
-	if (spec.column === 'resistance_mohm') return /\s*m(?:ohm|[\u03a9\u03c9\u2126])$/i;
-	return spec.scale === 1 ? /\s*ah$/i : /\s*mah$/i;
-}
-
-const decimalPattern = /^[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)$/;
-
-/** A number with a decimal point or a decimal comma ("3.612", "3,612"); null when it is not one. No thousands separators. */
-export function parseDecimal(text: string): number | null {
-	const trimmed = text.trim();
-	return decimalPattern.test(trimmed) ? Number(trimmed.replace(',', '.')) : null;
-}
 
 const candidateDelimiters = ['\t', ';', ','] as const;
 
@@ -112,7 +35,7 @@ interface Prepared {
  */
 function prepare(text: string): Prepared {
 	// Every byte-order mark goes, not only a leading one: files glued together carry one per part,
-	// and papaparse would drop one only where a slice happens to start.
+	// and papaparse drops only a leading one.
 	let body = text.replace(/\uFEFF/g, '').replace(/\r\n?/g, '\n');
 	// Excel's hint line; a re-saved file may pad it with separators (`sep=;;;;`).
 	const sepLine = /^"?sep=([^\n])[^\n]*(?:\n|$)/i.exec(body);
@@ -140,298 +63,91 @@ function prepare(text: string): Prepared {
 	return { body, delimiter, headerStart };
 }
 
-interface ColumnMap {
-	width: number;
-	indexes: Map<CellCsvColumn, { index: number; spec: ColumnSpec }>;
-	ignored: string[];
-}
-
-function mapHeader(fields: string[]): { map: ColumnMap } | { message: string } {
-	const indexes: ColumnMap['indexes'] = new Map();
-	const ignored: string[] = [];
-	for (const [index, raw] of fields.entries()) {
-		const name = raw.trim();
-		if (name === '') continue;
-		const spec = columnByHeader.get(headerKey(name));
-		if (!spec) {
-			ignored.push(name);
-			continue;
-		}
-		const earlier = indexes.get(spec.column);
-		if (earlier)
-			return {
-				message: `The header row has two ${spec.column} columns ("${fields[earlier.index].trim()}" and "${name}"). Keep one of them.`
-			};
-		indexes.set(spec.column, { index, spec });
-	}
-	const missing = (['label', 'volts'] as const).filter((c) => !indexes.has(c));
-	if (missing.length > 0) {
-		const named = fields.map((f) => f.trim()).filter((f) => f !== '');
-		const found = named.length ? `It names: ${named.slice(0, 8).map((f) => `"${f}"`).join(', ')}.` : 'It is empty.';
-		return {
-			message:
-				`The header row needs a ${missing.join(' and a ')} column. ${found} ` +
-				'The first row must name the columns, as in the template: label, volts, resistance_mohm, capacity_ah.'
-		};
-	}
-	return { map: { width: fields.length, indexes, ignored } };
-}
-
-const isBlank = (field: string | undefined) => field === undefined || field.trim() === '';
-
-const quoteProblems: Record<string, string> = {
-	MissingQuotes: 'a value opens with a quotation mark that is never closed',
-	InvalidQuotes: 'a quoted value has text after its closing quotation mark'
-};
-
-/** Checks records in file order; the same instance sees every record, however the text was sliced. */
-function createChecker(delimiter: string) {
-	let map: ColumnMap | null = null;
-	let fileError: string | null = null;
-	let dataRows = 0;
-	let unlisted = 0;
-	const rows: CellRow[] = [];
-	const errors: RowError[] = [];
-	const firstRowOfLabel = new Map<string, number>();
-
-	const report = (error: RowError) => {
-		if (errors.length < CELL_CSV_MAX_LISTED_ERRORS) errors.push(error);
-		else unlisted += 1;
-	};
-
-	/** An optional measurement: null when empty, undefined after reporting a problem. */
-	function optionalNumber(
-		fields: string[],
-		row: number,
-		column: CellCsvColumn,
-		maximum: number
-	): number | null | undefined {
-		const found = map?.indexes.get(column);
-		const raw = found ? (fields[found.index] ?? '').trim() : '';
-		if (!found || raw === '') return null;
-		const parsed = parseDecimal(raw.replace(unitPattern(found.spec), ''));
-		const value = parsed === null ? null : parsed * found.spec.scale;
-		if (value !== null && value > 0 && value <= maximum) return value;
-		const hint =
-			column === 'capacity_ah' && found.spec.scale === 1 && value !== null && value > maximum && value <= maximum * 1000
-				? `; if that is mAh, write ${value / 1000}`
-				: '';
-		report({
-			row,
-			field: column,
-			message: `row ${row}: ${column} must be empty or a number above 0 and at most ${maximum} (got "${raw}"${hint})`
-		});
-		return undefined;
-	}
-
-	function checkCell(fields: string[], row: number, columns: ColumnMap): void {
-		let isValid = true;
-
-		const label = (fields[columns.indexes.get('label')!.index] ?? '').trim();
-		const labelLength = [...label].length;
-		if (label === '') {
-			isValid = false;
-			report({ row, field: 'label', message: `row ${row}: label is empty; every cell needs a label` });
-		} else if (hasControlCharacter(label)) {
-			// PostgreSQL cannot keep NUL, and no label means a control character.
-			isValid = false;
-			report({ row, field: 'label', message: `row ${row}: label holds a control character; use letters, digits and punctuation only` });
-		} else if (labelLength > CELL_LIMITS.labelMaxChars) {
-			isValid = false;
-			report({
-				row,
-				field: 'label',
-				message: `row ${row}: label must be at most ${CELL_LIMITS.labelMaxChars} characters (it has ${labelLength})`
-			});
-		} else {
-			const key = cellLabelKey(label);
-			const first = firstRowOfLabel.get(key);
-			if (first === undefined) firstRowOfLabel.set(key, row);
-			else {
-				isValid = false;
-				report({
-					row,
-					field: 'label',
-					message: `row ${row}: label "${label}" is also used on row ${first}; each cell needs its own label`
-				});
-			}
-		}
-
-		const voltsColumn = columns.indexes.get('volts')!;
-		const voltsRaw = (fields[voltsColumn.index] ?? '').trim();
-		const volts = parseDecimal(voltsRaw.replace(unitPattern(voltsColumn.spec), ''));
-		if (volts === null || volts < CELL_LIMITS.voltsMin || volts > CELL_LIMITS.voltsMax) {
-			isValid = false;
-			report({
-				row,
-				field: 'volts',
-				message: `row ${row}: volts must be a number between ${CELL_LIMITS.voltsMin} and ${CELL_LIMITS.voltsMax} (${voltsRaw === '' ? 'it is empty' : `got "${voltsRaw}"`})`
-			});
-		}
-
-		const resistanceMilliOhms = optionalNumber(fields, row, 'resistance_mohm', CELL_LIMITS.resistanceMaxMilliOhms);
-		const capacityAh = optionalNumber(fields, row, 'capacity_ah', CELL_LIMITS.capacityMaxAh);
-
-		if (isValid && volts !== null && resistanceMilliOhms !== undefined && capacityAh !== undefined)
-			rows.push({ label, volts, resistanceMilliOhms, capacityAh });
-	}
-
-	return {
-		get isStopped() {
-			return fileError !== null;
-		},
-
-		accept(fields: string[], row: number, quoteProblem: string | undefined): void {
-			if (fileError !== null || fields.every(isBlank)) return;
-			if (map === null) {
-				const header = mapHeader(fields);
-				if ('message' in header) fileError = header.message;
-				else map = header.map;
-				return;
-			}
-			dataRows += 1;
-			if (dataRows > CELL_CSV_MAX_ROWS) return;
-
-			if (quoteProblem) {
-				report({ row, message: `row ${row}: ${quoteProblems[quoteProblem] ?? 'its quotation marks are not balanced'}` });
-				return;
-			}
-			let valueCount = fields.length;
-			while (valueCount > 0 && isBlank(fields[valueCount - 1])) valueCount -= 1;
-			if (valueCount > map.width) {
-				const hint =
-					delimiter === ','
-						? '; numbers with a decimal comma need semicolons between the columns, or quotes around the numbers'
-						: '';
-				report({ row, message: `row ${row} has ${valueCount} values but the header row names ${map.width} columns${hint}` });
-				return;
-			}
-			checkCell(fields, row, map);
-		},
-
-		finish(): CellCsvResult {
-			const whole = (message: string): CellCsvResult => ({ ok: false, errors: [{ row: 0, message }], rows: [] });
-			if (fileError !== null) return whole(fileError);
-			if (map === null) return whole('The file is empty.');
-			if (dataRows === 0) return whole('The file has a header row but no cells below it.');
-			if (dataRows > CELL_CSV_MAX_ROWS)
-				return whole(
-					`The file has ${dataRows.toLocaleString('en-US')} cells; one upload takes at most ${CELL_CSV_MAX_ROWS.toLocaleString('en-US')}. Split it into smaller files.`
-				);
-			if (errors.length === 0) return { ok: true, rows };
-			const listed = unlisted
-				? [...errors, { row: 0, message: `${unlisted} more problems are not listed. Fix the ones above and upload the file again.` }]
-				: errors;
-			return { ok: false, errors: listed, rows };
-		}
-	};
-}
+const papaOptions = {
+	newline: '\n',
+	quoteChar: '"',
+	escapeChar: '"',
+	header: false,
+	dynamicTyping: false,
+	skipEmptyLines: false
+} as const;
 
 /**
- * Where to end a slice: the first line end at or after `minEnd` that is outside a quoted value,
- * following papaparse's quote rules (a quote opens a value only at its start; `""` inside is a
- * quote; a closing quote is followed by optional spaces, then a separator or a line end).
+ * Passes each chunk's records to the checker with their row numbers (rows count on across chunks;
+ * papaparse numbers a chunk's quote errors from 0 within the chunk).
  */
-function findSliceEnd(body: string, from: number, minEnd: number, delimiter: string): number {
-	let isQuoted = false;
-	let isFieldStart = true;
-	for (let i = from; i < body.length; i++) {
-		const c = body[i];
-		if (isQuoted) {
-			if (c !== '"') continue;
-			if (body[i + 1] === '"') {
-				i += 1;
-				continue;
-			}
-			let j = i + 1;
-			while (j < body.length && body[j] !== delimiter && body[j] !== '\n' && body[j].trim() === '') j += 1;
-			if (j >= body.length || body[j] === delimiter || body[j] === '\n') {
-				isQuoted = false;
-				i = j - 1;
-			}
-			continue;
-		}
-		if (c === '\n') {
-			if (i >= minEnd) return i;
-			isFieldStart = true;
-		} else if (c === delimiter) {
-			isFieldStart = true;
-		} else {
-			if (c === '"' && isFieldStart) isQuoted = true;
-			isFieldStart = false;
-		}
-	}
-	return body.length;
-}
-
-/** Parses slice after slice, yielding the share of the text done after each; returns the result. */
-function* parseSteps(text: string, sliceChars: number): Generator<number, CellCsvResult, void> {
-	const { body, delimiter } = prepare(text);
-	const checker = createChecker(delimiter);
-	let start = 0;
+function recordFeeder(checker: ReturnType<typeof createChecker>) {
 	let rowsBefore = 0;
-	while (start < body.length && !checker.isStopped) {
-		const cut = body.length - start <= sliceChars ? body.length : findSliceEnd(body, start, start + sliceChars, delimiter);
-		// A slice keeps its closing line end: papaparse reads `"x" ` before a line end as a closed
-		// quote, but before the end of its input as a broken one.
-		const end = cut < body.length ? cut + 1 : body.length;
-		const parsed = Papa.parse<string[]>(body.slice(start, end), {
-			delimiter,
-			newline: '\n',
-			quoteChar: '"',
-			escapeChar: '"',
-			header: false,
-			dynamicTyping: false,
-			skipEmptyLines: false
-		});
+	return (results: Papa.ParseResult<string[]>) => {
 		const quoteProblemByIndex = new Map<number, string>();
-		for (const error of parsed.errors)
+		for (const error of results.errors)
 			if (error.type === 'Quotes' && error.row !== undefined && !quoteProblemByIndex.has(error.row))
 				quoteProblemByIndex.set(error.row, error.code);
-		const records = parsed.data;
-		// That line end makes papaparse add an empty record that belongs to the next slice.
-		const last = records[records.length - 1];
-		if (end < body.length && last?.length === 1 && last[0] === '') records.pop();
-		records.forEach((fields, index) => checker.accept(fields, rowsBefore + index + 1, quoteProblemByIndex.get(index)));
-		rowsBefore += records.length;
-		start = end;
-		if (start < body.length) yield start / body.length;
-	}
-	return checker.finish();
+		results.data.forEach((fields, index) => checker.accept(fields, rowsBefore + index + 1, quoteProblemByIndex.get(index)));
+		rowsBefore += results.data.length;
+	};
 }
 
 /** Parses and checks an arrival-measurement CSV in one go (the server's way: the whole file, all or nothing). */
 export function parseCellCsv(text: string): CellCsvResult {
-	const steps = parseSteps(text, Infinity);
-	for (;;) {
-		const step = steps.next();
-		if (step.done) return step.value;
-	}
+	const { body, delimiter } = prepare(text);
+	const checker = createChecker(delimiter);
+	const feed = recordFeeder(checker);
+	// Without a chunk size papaparse hands over the whole text as one chunk, synchronously.
+	Papa.parse<string[]>(body, {
+		...papaOptions,
+		delimiter,
+		chunk: (results: Papa.ParseResult<string[]>, parser: Papa.Parser) => {
+			feed(results);
+			if (checker.isStopped) parser.abort();
+		},
+		complete: () => {}
+	});
+	return checker.finish();
 }
 
-/** Characters per slice: about 400 rows of four columns, a few milliseconds of work even on a slow phone. */
-const SLICE_CHARS = 16_384;
+/** Characters per chunk: about 400 rows of four columns, a few milliseconds of work even on a slow phone. */
+const CHUNK_CHARS = 16_384;
 
 /**
- * The same result as parseCellCsv, in slices with a pause for the event loop between them so a
- * 20,000-row file never freezes the page. `onProgress` gets the share done (0..1), ending with 1.
+ * The same result as parseCellCsv, read in papaparse's chunks with a pause for the event loop
+ * after each, so a 20,000-row file never freezes the page. papaparse carries a record cut by a
+ * chunk's end (quoted line ends included) over to the next chunk. `onProgress` gets the share
+ * done (0..1), ending with 1.
  */
-export async function parseCellCsvChunked(
+export function parseCellCsvChunked(
 	text: string,
 	onProgress: (fraction: number) => void,
-	options: { sliceChars?: number } = {}
+	options: { chunkChars?: number } = {}
 ): Promise<CellCsvResult> {
-	const steps = parseSteps(text, Math.max(1, options.sliceChars ?? SLICE_CHARS));
+	const { body, delimiter } = prepare(text);
+	const checker = createChecker(delimiter);
+	const feed = recordFeeder(checker);
 	onProgress(0);
-	for (;;) {
-		const step = steps.next();
-		if (step.done) {
+	return new Promise((resolve) => {
+		let isSettled = false;
+		const settle = () => {
+			if (isSettled) return;
+			isSettled = true;
 			onProgress(1);
-			return step.value;
-		}
-		onProgress(step.value);
-		await new Promise<void>((resolve) => setTimeout(resolve, 0));
-	}
+			resolve(checker.finish());
+		};
+		Papa.parse<string[]>(body, {
+			...papaOptions,
+			delimiter,
+			chunkSize: Math.max(1, Math.floor(options.chunkChars ?? CHUNK_CHARS)),
+			// papaparse streams a string in chunks as it does a file (its StringStreamer), though
+			// its types mention chunk for files only.
+			chunk: (results: Papa.ParseResult<string[]>, parser: Papa.Parser) => {
+				feed(results);
+				if (checker.isStopped) return parser.abort();
+				if (body.length) onProgress(Math.min(1, results.meta.cursor / body.length));
+				parser.pause();
+				setTimeout(() => parser.resume(), 0);
+			},
+			complete: settle
+		});
+	});
 }
 
 /** Which header names were read as which column, and which were not read at all (for the preview). */
@@ -441,16 +157,6 @@ export function describeCellCsvColumns(text: string): {
 	ignored: string[];
 } {
 	const { body, delimiter, headerStart } = prepare(text);
-	const end = findSliceEnd(body, headerStart, headerStart, delimiter);
-	const fields = Papa.parse<string[]>(body.slice(headerStart, end), { delimiter, newline: '\n', quoteChar: '"' }).data[0] ?? [];
-	const columns: Partial<Record<CellCsvColumn, string>> = {};
-	const ignored: string[] = [];
-	for (const raw of fields) {
-		const name = raw.trim();
-		if (name === '') continue;
-		const spec = columnByHeader.get(headerKey(name));
-		if (spec && !columns[spec.column]) columns[spec.column] = name;
-		else ignored.push(name);
-	}
-	return { delimiter, columns, ignored };
+	const fields = Papa.parse<string[]>(body.slice(headerStart), { ...papaOptions, delimiter, preview: 1 }).data[0] ?? [];
+	return { delimiter, ...describeHeader(fields) };
 }
