@@ -9,31 +9,26 @@ import { PG, pgCode } from './db/errors';
 
 export type InputProblem = { status: 400 | 409; message: string };
 
+const conflict = (message: string): InputProblem => ({ status: 409, message });
+const refused = (message: string): InputProblem => ({ status: 400, message });
+
+const sameMoment = conflict('Someone changed this at the same moment. Reload the page and try again.');
+const unstorable = refused('A text holds characters that cannot be stored (such as control characters). Remove them and try again.');
+
+/** SQLSTATE → answer. Codes: PostgreSQL manual, Appendix A (see db/errors.ts). */
 const problems: Record<string, InputProblem> = {
-	[PG.uniqueViolation]: {
-		status: 409,
-		message: 'Something with the same name or label is already saved. Choose another and try again.'
-	},
-	[PG.foreignKeyViolation]: {
-		status: 409,
-		message: 'Something this refers to was removed or changed meanwhile. Reload the page and try again.'
-	},
-	[PG.checkViolation]: { status: 400, message: 'A value is outside the range Cellsitter can keep. Check the numbers and try again.' },
-	[PG.notNullViolation]: { status: 400, message: 'A required value is missing. Fill in every field and try again.' },
-	[PG.stringDataRightTruncation]: { status: 400, message: 'A text is too long. Shorten it and try again.' },
-	[PG.numericValueOutOfRange]: { status: 400, message: 'A number is too large. Check the numbers and try again.' },
-	[PG.invalidTextRepresentation]: { status: 400, message: 'A value is not in the form expected. Check the fields and try again.' },
-	[PG.characterNotInRepertoire]: {
-		status: 400,
-		message: 'A text holds characters that cannot be stored (such as control characters). Remove them and try again.'
-	},
-	[PG.untranslatableCharacter]: {
-		status: 400,
-		message: 'A text holds characters that cannot be stored (such as control characters). Remove them and try again.'
-	},
-	[PG.serializationFailure]: { status: 409, message: 'Someone changed this at the same moment. Reload the page and try again.' },
-	[PG.deadlockDetected]: { status: 409, message: 'Someone changed this at the same moment. Reload the page and try again.' },
-	[PG.lockNotAvailable]: { status: 409, message: 'Someone is changing this right now. Try again in a moment.' }
+	[PG.uniqueViolation]: conflict('Something with the same name or label is already saved. Choose another and try again.'),
+	[PG.foreignKeyViolation]: conflict('Something this refers to was removed or changed meanwhile. Reload the page and try again.'),
+	[PG.checkViolation]: refused('A value is outside the range Cellsitter can keep. Check the numbers and try again.'),
+	[PG.notNullViolation]: refused('A required value is missing. Fill in every field and try again.'),
+	[PG.stringDataRightTruncation]: refused('A text is too long. Shorten it and try again.'),
+	[PG.numericValueOutOfRange]: refused('A number is too large. Check the numbers and try again.'),
+	[PG.invalidTextRepresentation]: refused('A value is not in the form expected. Check the fields and try again.'),
+	[PG.characterNotInRepertoire]: unstorable,
+	[PG.untranslatableCharacter]: unstorable,
+	[PG.serializationFailure]: sameMoment,
+	[PG.deadlockDetected]: sameMoment,
+	[PG.lockNotAvailable]: conflict('Someone is changing this right now. Try again in a moment.')
 };
 
 /** The 4xx answer for a database error caused by input, or null when the error is something else. */
@@ -56,7 +51,7 @@ export async function withInputProblems<T>(work: () => Promise<T>): Promise<T> {
 	}
 }
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// `any`: each page's actions take their own RequestEvent type, which the wrapper passes through.
 type AnyAction = (event: any) => unknown;
 
 /**
