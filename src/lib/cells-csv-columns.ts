@@ -5,6 +5,14 @@
 /** The template's column names: how messages name a column, whatever alias the file used. */
 export type CellCsvColumn = 'label' | 'volts' | 'resistance_mohm' | 'capacity_ah';
 
+/** How a message names a column's value: plain words with the unit, never the header's code. */
+export const columnWords: Record<CellCsvColumn, { name: string; unit: string }> = {
+	label: { name: 'label', unit: '' },
+	volts: { name: 'voltage', unit: 'volts' },
+	resistance_mohm: { name: 'resistance', unit: 'milliohms' },
+	capacity_ah: { name: 'capacity', unit: 'amp-hours' }
+};
+
 export interface ColumnSpec {
 	column: CellCsvColumn;
 	/** Multiplier to the template's unit (mAh → Ah). */
@@ -86,7 +94,7 @@ export function mapHeader(fields: string[]): { map: ColumnMap } | { message: str
 		const earlier = indexes.get(spec.column);
 		if (earlier)
 			return {
-				message: `The header row has two ${spec.column} columns ("${fields[earlier.index].trim()}" and "${name}"). Keep one of them.`
+				message: `The header row has two ${columnWords[spec.column].name} columns ("${fields[earlier.index].trim()}" and "${name}"). Keep one of them.`
 			};
 		indexes.set(spec.column, { index, spec });
 	}

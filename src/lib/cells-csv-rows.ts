@@ -4,7 +4,7 @@
  */
 import { CELL_BATCH_MAX_CELLS, CELL_LIMITS, cellLabelKey, type CellRow } from '$lib/schemas/cells';
 import { hasControlCharacter } from '$lib/schemas/text';
-import { mapHeader, parseDecimal, unitPattern, type CellCsvColumn, type ColumnMap } from './cells-csv-columns';
+import { columnWords, mapHeader, parseDecimal, unitPattern, type CellCsvColumn, type ColumnMap } from './cells-csv-columns';
 
 /**
  * One problem in an uploaded file. `row` is the row a spreadsheet shows: the file's first line is
@@ -71,7 +71,7 @@ export function createChecker(delimiter: string) {
 		report({
 			row,
 			field: column,
-			message: `row ${row}: ${column} must be empty or a number above 0 and at most ${maximum} (got "${raw}"${hint})`
+			message: `row ${row}: ${columnWords[column].name} must be empty or a number of ${columnWords[column].unit} above 0 and at most ${maximum} (got "${raw}"${hint})`
 		});
 		return undefined;
 	}
@@ -117,7 +117,7 @@ export function createChecker(delimiter: string) {
 			report({
 				row,
 				field: 'volts',
-				message: `row ${row}: volts must be a number between ${CELL_LIMITS.voltsMin} and ${CELL_LIMITS.voltsMax} (${voltsRaw === '' ? 'it is empty' : `got "${voltsRaw}"`})`
+				message: `row ${row}: voltage must be a number of volts between ${CELL_LIMITS.voltsMin} and ${CELL_LIMITS.voltsMax} (${voltsRaw === '' ? 'it is empty' : `got "${voltsRaw}"`})`
 			});
 		}
 

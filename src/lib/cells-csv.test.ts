@@ -84,7 +84,7 @@ describe('parseCellCsv: header names', () => {
 
 	it('refuses two columns that mean the same thing', () => {
 		const errors = errorsOf(parseCellCsv('label,volts,voltage\nC1,3.6,3.6\n'));
-		expect(errors).toEqual([{ row: 0, message: expect.stringContaining('two volts columns ("volts" and "voltage")') }]);
+		expect(errors).toEqual([{ row: 0, message: expect.stringContaining('two voltage columns ("volts" and "voltage")') }]);
 	});
 
 	it('names the columns it does not read, so a mis-named one is noticed', () => {
@@ -99,15 +99,15 @@ describe('parseCellCsv: header names', () => {
 describe('parseCellCsv: problems in plain words', () => {
 	const good = 'C1,3.612,18.5,4.01\nC2,3.598,21,3.9';
 	it.each([
-		['volts', 'C3,abc,20,4', 'row 4: volts must be a number between 0 and 5 (got "abc")'],
-		['volts', 'C3,5.01,20,4', 'row 4: volts must be a number between 0 and 5 (got "5.01")'],
-		['volts', 'C3,-0.1,20,4', 'row 4: volts must be a number between 0 and 5 (got "-0.1")'],
-		['volts', 'C3,,20,4', 'row 4: volts must be a number between 0 and 5 (it is empty)'],
-		['volts', 'C3,3.6.1,20,4', 'row 4: volts must be a number between 0 and 5 (got "3.6.1")'],
-		['resistance_mohm', 'C3,3.6,0,4', 'row 4: resistance_mohm must be empty or a number above 0 and at most 10000 (got "0")'],
-		['resistance_mohm', 'C3,3.6,10001,4', 'row 4: resistance_mohm must be empty or a number above 0 and at most 10000 (got "10001")'],
-		['capacity_ah', 'C3,3.6,20,-1', 'row 4: capacity_ah must be empty or a number above 0 and at most 2000 (got "-1")'],
-		['capacity_ah', 'C3,3.6,20,2500', 'row 4: capacity_ah must be empty or a number above 0 and at most 2000 (got "2500"; if that is mAh, write 2.5)'],
+		['volts', 'C3,abc,20,4', 'row 4: voltage must be a number of volts between 0 and 5 (got "abc")'],
+		['volts', 'C3,5.01,20,4', 'row 4: voltage must be a number of volts between 0 and 5 (got "5.01")'],
+		['volts', 'C3,-0.1,20,4', 'row 4: voltage must be a number of volts between 0 and 5 (got "-0.1")'],
+		['volts', 'C3,,20,4', 'row 4: voltage must be a number of volts between 0 and 5 (it is empty)'],
+		['volts', 'C3,3.6.1,20,4', 'row 4: voltage must be a number of volts between 0 and 5 (got "3.6.1")'],
+		['resistance_mohm', 'C3,3.6,0,4', 'row 4: resistance must be empty or a number of milliohms above 0 and at most 10000 (got "0")'],
+		['resistance_mohm', 'C3,3.6,10001,4', 'row 4: resistance must be empty or a number of milliohms above 0 and at most 10000 (got "10001")'],
+		['capacity_ah', 'C3,3.6,20,-1', 'row 4: capacity must be empty or a number of amp-hours above 0 and at most 2000 (got "-1")'],
+		['capacity_ah', 'C3,3.6,20,2500', 'row 4: capacity must be empty or a number of amp-hours above 0 and at most 2000 (got "2500"; if that is mAh, write 2.5)'],
 		['label', ',3.6,20,4', 'row 4: label is empty; every cell needs a label'],
 		['label', `${'x'.repeat(61)},3.6,20,4`, 'row 4: label must be at most 60 characters (it has 61)']
 	])('a bad %s on row 4: %s', (field, badLine, message) => {
@@ -120,7 +120,7 @@ describe('parseCellCsv: problems in plain words', () => {
 
 	it('counts empty lines as rows, as a spreadsheet shows them', () => {
 		const errors = errorsOf(parseCellCsv(`${header}\n\nC1,3.6\n\n\nC2,9\n`));
-		expect(errors).toEqual([{ row: 6, field: 'volts', message: 'row 6: volts must be a number between 0 and 5 (got "9")' }]);
+		expect(errors).toEqual([{ row: 6, field: 'volts', message: 'row 6: voltage must be a number of volts between 0 and 5 (got "9")' }]);
 	});
 
 	it('counts a quoted value spread over two lines as one row', () => {
