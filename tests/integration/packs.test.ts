@@ -24,7 +24,7 @@ describe('cell CSV import', () => {
 		// Header is row 1, so the third data line is row 4.
 		expect(result.errors).toHaveLength(1);
 		expect(result.errors[0].row).toBe(4);
-		expect(result.errors[0].message).toMatch(/^row 4: volts/);
+		expect(result.errors[0].message).toMatch(/^row 4: voltage/);
 		expect(await db.$count(cells, eq(cells.packId, pack.id))).toBe(0);
 	});
 
