@@ -15,6 +15,11 @@ ALTER TABLE "pack_groups" ADD CONSTRAINT "pack_groups_id_pack_key" UNIQUE("id","
 ALTER TABLE "cell_specs" ADD CONSTRAINT "cell_specs_profile_same_workshop_fk" FOREIGN KEY ("chemistry_profile_id","workshop_id") REFERENCES "public"."chemistry_profiles"("id","workshop_id") ON DELETE restrict ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "cells" ADD CONSTRAINT "cells_group_same_pack_fk" FOREIGN KEY ("group_id","pack_id") REFERENCES "public"."pack_groups"("id","pack_id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "packs" ADD CONSTRAINT "packs_cell_spec_same_workshop_fk" FOREIGN KEY ("cell_spec_id","workshop_id") REFERENCES "public"."cell_specs"("id","workshop_id") ON DELETE restrict ON UPDATE no action;--> statement-breakpoint
+-- Labels that differ only in case (possible before: the old index was case-sensitive) get a
+-- numbered suffix on all but the first, so the case-insensitive index can be built.
+UPDATE "cells" SET "label" = left("cells"."label", 52) || ' (' || d.n || ')'
+FROM (SELECT "id", row_number() OVER (PARTITION BY "pack_id", lower("label") ORDER BY "created_at", "id") AS n FROM "cells") AS d
+WHERE d."id" = "cells"."id" AND d.n > 1;--> statement-breakpoint
 CREATE UNIQUE INDEX "cells_pack_label_lower_key" ON "cells" USING btree ("pack_id",lower("label"));--> statement-breakpoint
 ALTER TABLE "invitations" ADD CONSTRAINT "invitations_email_length" CHECK (char_length("invitations"."email") between 1 and 254);--> statement-breakpoint
 ALTER TABLE "users" ADD CONSTRAINT "users_email_length" CHECK (char_length("users"."email") between 1 and 254);--> statement-breakpoint
