@@ -317,6 +317,40 @@ describe('control characters and bad shapes through the form actions', () => {
 	});
 });
 
+describe('bodies that are not readable forms', () => {
+	it('answers 400 from every action that reads its form itself', async () => {
+		const broken = (path: string, params: Record<string, string>, who: Member = owner) => {
+			const url = new URL(`http://127.0.0.1${path}`);
+			// A multipart body cut off before its closing boundary.
+			const body = '--zzz\r\nContent-Disposition: form-data; name="rows"\r\n\r\n[1';
+			return {
+				locals: { user: who.user, session: null },
+				params,
+				url,
+				request: new Request(url, { method: 'POST', body, headers: { 'content-type': 'multipart/form-data; boundary=zzz' } })
+			} as never;
+		};
+		const pack = { workshop: ws, packId };
+		const members = { workshop: ws };
+		const cases: [string, Handler, never][] = [
+			['addCells', cellsPage.actions.addCells as Handler, broken(`/w/${ws}/packs/${packId}/cells`, pack)],
+			['importCsv', cellsPage.actions.importCsv as Handler, broken(`/w/${ws}/packs/${packId}/cells`, pack)],
+			['correct', cellsPage.actions.correct as Handler, broken(`/w/${ws}/packs/${packId}/cells`, pack)],
+			['remove', cellsPage.actions.remove as Handler, broken(`/w/${ws}/packs/${packId}/cells`, pack)],
+			['changeRole', membersPage.actions.changeRole as Handler, broken(`/w/${ws}/workshop/members`, members)],
+			['remove member', membersPage.actions.remove as Handler, broken(`/w/${ws}/workshop/members`, members)],
+			['revoke', membersPage.actions.revoke as Handler, broken(`/w/${ws}/workshop/members`, members)],
+			['unlink', accountPage.actions.unlink as Handler, broken('/account', {})]
+		];
+		for (const [name, action, event] of cases) {
+			const answer = await outcome(() => action(event));
+			expect(answer.status, name).toBe(400);
+			expect(answer.text, name).toMatch(/could not be read/);
+		}
+		expect(await cellCount()).toBe(0);
+	});
+});
+
 describe('database errors that bad input can cause', () => {
 	it('maps them to 400 or 409 with a plain message, and leaves other errors alone', async () => {
 		const nul = await db
@@ -342,11 +376,11 @@ describe('database errors that bad input can cause', () => {
 		const duplicateSpec = () =>
 			db.insert(cellSpecs).values({ id: specId, workshopId: owner.workshop.id, name: 'dup', chemistryId: 'nmc', capacityAh: 3, maxContinuousAmps: 10, maxChargeAmps: 3 });
 		const actions = guardActions({
-			race: async () => {
+			race: async (_event: unknown) => {
 				await duplicateSpec();
 				return {};
 			},
-			bug: async () => {
+			bug: async (_event: unknown) => {
 				throw new Error('a bug');
 			}
 		});

@@ -8,6 +8,7 @@ import { createWorkshop, listWorkshopsOf } from '$lib/server/workshops';
 import { workshopSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 import { guardActions } from '$lib/server/input-problems';
+import { readForm } from '$lib/server/form-input';
 
 const linkErrors: Record<string, string> = {
 	'linked-elsewhere': 'That provider account is already linked to another Cellsitter account.',
@@ -37,7 +38,7 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 };
 
 /** A provider id as configured (github, oauth…): short, lower case. */
-const unlinkSchema = z.object({ provider: z.string().regex(/^[a-z0-9-]{1,40}$/) });
+const unlinkSchema = z.object({ provider: z.string('Choose a provider to unlink.').regex(/^[a-z0-9-]{1,40}$/, 'Choose a provider to unlink.') });
 
 export const actions: Actions = guardActions<Actions>({
 	createWorkshop: async ({ locals, url, request }) => {
@@ -49,8 +50,8 @@ export const actions: Actions = guardActions<Actions>({
 	},
 	unlink: async ({ locals, url, request }) => {
 		const user = requireUser(locals, url);
-		const parsed = unlinkSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!parsed.success) return kitFail(400, { unlinkError: 'Choose a provider to unlink.' });
+		const parsed = await readForm(request, unlinkSchema);
+		if (!parsed.ok) return kitFail(400, { unlinkError: parsed.message });
 		const result = await unlinkOAuthAccount(user.id, parsed.data.provider);
 		if (!result.ok) return { unlinkError: 'Set a password first: it is your only way to sign in.' };
 		return {};

@@ -7,6 +7,7 @@ import { changeRole, listMembers, removalMessage, removeMember } from '$lib/serv
 import { invitationIdSchema, inviteSchema, memberSchema, roleChangeSchema } from '$lib/schemas/auth';
 import type { Actions, PageServerLoad } from './$types';
 import { guardActions } from '$lib/server/input-problems';
+import { readForm } from '$lib/server/form-input';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'members.manage');
@@ -44,24 +45,24 @@ export const actions: Actions = guardActions<Actions>({
 	},
 	changeRole: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'members.manage');
-		const parsed = roleChangeSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!parsed.success) return kitFail(400, { memberError: 'Choose a role.' });
+		const parsed = await readForm(request, roleChangeSchema);
+		if (!parsed.ok) return kitFail(400, { memberError: parsed.message });
 		const result = await changeRole(member, parsed.data.userId, parsed.data.role);
 		if (!result.ok) return kitFail(409, { memberError: refusals[result.reason] });
 		return { memberDone: 'Role changed.' };
 	},
 	remove: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'members.manage');
-		const parsed = memberSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!parsed.success) return kitFail(400, { memberError: 'Choose a member.' });
+		const parsed = await readForm(request, memberSchema);
+		if (!parsed.ok) return kitFail(400, { memberError: parsed.message });
 		const result = await removeMember(member, parsed.data.userId);
 		if (!result.ok) return kitFail(409, { memberError: refusals[result.reason] });
 		return { memberDone: removalMessage(result) };
 	},
 	revoke: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'members.manage');
-		const parsed = invitationIdSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!parsed.success) return kitFail(400, { memberError: 'Choose an invitation to withdraw.' });
+		const parsed = await readForm(request, invitationIdSchema);
+		if (!parsed.ok) return kitFail(400, { memberError: parsed.message });
 		await revokeInvitation(member, parsed.data.invitationId);
 		return { memberDone: 'Invitation withdrawn.' };
 	}

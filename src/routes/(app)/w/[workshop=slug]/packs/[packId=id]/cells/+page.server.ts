@@ -13,6 +13,7 @@ import {
 } from '$lib/schemas/cells';
 import { parseDecimal } from '$lib/cells-csv';
 import type { Actions, PageServerLoad } from './$types';
+import { readForm } from '$lib/server/form-input';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
@@ -38,8 +39,8 @@ const messagesOf = (issues: { message: string }[]) => issues.map((i) => i.messag
 export const actions: Actions = guardActions<Actions>({
 	importCsv: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const input = cellCsvFormSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!input.success) return fail(400, { message: messagesOf(input.error.issues), errors: [] });
+		const input = await readForm(request, cellCsvFormSchema);
+		if (!input.ok) return fail(400, { message: input.message, errors: [] });
 		const { csv } = input.data;
 		if (!csv.trim()) return fail(400, { message: 'The file is empty.', errors: [] });
 		const result = await importCellCsv(member, params.packId, csv);
@@ -49,8 +50,8 @@ export const actions: Actions = guardActions<Actions>({
 	},
 	addCells: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const input = cellEntryFormSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!input.success) return fail(400, { entryProblem: input.error.issues[0].message });
+		const input = await readForm(request, cellEntryFormSchema);
+		if (!input.ok) return fail(400, { entryProblem: input.message });
 		const parsed = cellBatchSchema.safeParse({
 			cells: input.data.rows.map((r) => ({
 				label: r.label ?? '',
@@ -74,8 +75,8 @@ export const actions: Actions = guardActions<Actions>({
 	},
 	correct: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const input = cellEditFormSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!input.success) return fail(400, { correctProblem: messagesOf(input.error.issues) });
+		const input = await readForm(request, cellEditFormSchema);
+		if (!input.ok) return fail(400, { correctProblem: input.message });
 		const form = input.data;
 		const parsed = cellCorrectionSchema.safeParse({
 			label: form.label?.trim() || undefined,
@@ -91,8 +92,8 @@ export const actions: Actions = guardActions<Actions>({
 	},
 	remove: async ({ locals, params, url, request }) => {
 		const member = await requireMemberWith(locals, params, url, 'measurements.edit');
-		const input = cellIdFormSchema.safeParse(Object.fromEntries(await request.formData()));
-		if (!input.success) return fail(400, { correctProblem: messagesOf(input.error.issues) });
+		const input = await readForm(request, cellIdFormSchema);
+		if (!input.ok) return fail(400, { correctProblem: input.message });
 		const result = await removeCell(member, params.packId, input.data.cellId);
 		if (!result.ok) return fail(409, { correctProblem: result.message });
 		return { correctDone: 'Cell removed from the batch.' };
