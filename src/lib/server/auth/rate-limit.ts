@@ -6,38 +6,16 @@
  * `getClientAddress()`: behind a proxy, set ADDRESS_HEADER / XFF_DEPTH (docs/configuration.md),
  * or every client shares the proxy's address and its allowance.
  */
-import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
-import { sqlClient } from '../db';
+import { RateLimiterRes } from 'rate-limiter-flexible';
+import { pgLimiter } from './pg-limiter';
 
 export const PAIR_FAILURES = 5;
 export const PAIR_WINDOW_SECONDS = 15 * 60;
 export const ADDRESS_FAILURES = 50;
 export const ADDRESS_WINDOW_SECONDS = 60 * 60;
 
-// rate-limiter-flexible speaks node-postgres' query({ text, values }) → { rows, rowCount }; postgres.js's
-// unsafe() takes the same $n placeholders with bound parameters.
-const store = {
-	query: async (q: { text: string; values?: unknown[] }) => {
-		const rows = [...(await sqlClient().unsafe(q.text, (q.values ?? []) as never[]))];
-		return { rows, rowCount: rows.length };
-	}
-};
-
-function limiter(keyPrefix: string, points: number, duration: number) {
-	return new RateLimiterPostgres({
-		storeClient: store,
-		storeType: 'pool',
-		tableName: 'rate_limits',
-		tableCreated: true,
-		clearExpiredByTimeout: false,
-		keyPrefix,
-		points,
-		duration
-	});
-}
-
-const byPair = limiter('signin-pair', PAIR_FAILURES, PAIR_WINDOW_SECONDS);
-const byAddress = limiter('signin-addr', ADDRESS_FAILURES, ADDRESS_WINDOW_SECONDS);
+const byPair = pgLimiter('signin-pair', PAIR_FAILURES, PAIR_WINDOW_SECONDS);
+const byAddress = pgLimiter('signin-addr', ADDRESS_FAILURES, ADDRESS_WINDOW_SECONDS);
 
 const pairKey = (email: string, address: string) => `${email.toLowerCase()}|${address}`;
 

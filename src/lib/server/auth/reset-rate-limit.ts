@@ -4,37 +4,15 @@
  * per client address per hour, so one address cannot sweep through many mailboxes. Every request
  * counts, whether or not the address has an account, so the limit tells nothing either.
  */
-import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
-import { sqlClient } from '../db';
+import { RateLimiterRes } from 'rate-limiter-flexible';
+import { pgLimiter } from './pg-limiter';
 
 export const RESETS_PER_EMAIL = 3;
 export const RESETS_PER_ADDRESS = 20;
 export const RESET_WINDOW_SECONDS = 60 * 60;
 
-// rate-limiter-flexible speaks node-postgres' query({ text, values }); postgres.js's unsafe()
-// takes the same $n placeholders with bound parameters.
-const store = {
-	query: async (q: { text: string; values?: unknown[] }) => {
-		const rows = [...(await sqlClient().unsafe(q.text, (q.values ?? []) as never[]))];
-		return { rows, rowCount: rows.length };
-	}
-};
-
-function limiter(keyPrefix: string, points: number) {
-	return new RateLimiterPostgres({
-		storeClient: store,
-		storeType: 'pool',
-		tableName: 'rate_limits',
-		tableCreated: true,
-		clearExpiredByTimeout: false, // the purge-expired job deletes old rows
-		keyPrefix,
-		points,
-		duration: RESET_WINDOW_SECONDS
-	});
-}
-
-const byEmail = limiter('reset-email', RESETS_PER_EMAIL);
-const byAddress = limiter('reset-addr', RESETS_PER_ADDRESS);
+const byEmail = pgLimiter('reset-email', RESETS_PER_EMAIL, RESET_WINDOW_SECONDS);
+const byAddress = pgLimiter('reset-addr', RESETS_PER_ADDRESS, RESET_WINDOW_SECONDS);
 
 const waitOf = (res: RateLimiterRes) => Math.max(1, Math.ceil(res.msBeforeNext / 1000));
 
