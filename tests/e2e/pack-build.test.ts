@@ -1,8 +1,9 @@
 import { expect, test } from '@playwright/test';
 import { signUp, uniqueEmail } from './helpers';
 
-// Invented arrival measurements: eight cells in pairs that sum to 8.00 Ah, and one that came in
-// 300 mV below the others (suspect, not rejected: it is above 2.0 V).
+// Invented arrival measurements: eight cells in pairs that sum to 8.00 Ah, one that came in 300 mV
+// below the others (suspect, not rejected: it is above NMC's 2.50 V minimum — BU-216), and one
+// over-discharged at 2.10 V (rejected).
 const csv = [
 	'label;volts;resistance_mohm;capacity_ah',
 	'K1;3,601;16,1;3,90',
@@ -13,7 +14,8 @@ const csv = [
 	'K6;3,597;16,3;3,94',
 	'K7;3,604;16,6;4,06',
 	'K8;3,599;15,8;3,96',
-	'K9;3,602;16,5;4,04'
+	'K9;3,602;16,5;4,04',
+	'K10;2,100;16,0;4,00'
 ].join('\r\n');
 
 test('a builder records a 4S2P pack, inspects its cells from a CSV and matches them', async ({ page }) => {
@@ -53,13 +55,19 @@ test('a builder records a 4S2P pack, inspects its cells from a CSV and matches t
 		mimeType: 'text/csv',
 		buffer: Buffer.from(csv, 'utf8')
 	});
-	await page.getByRole('button', { name: 'Import 9 cells' }).click();
+	await page.getByRole('button', { name: 'Import 10 cells' }).click();
 	const inventory = page.getByRole('table', { name: 'Cells of this batch' });
-	await expect(inventory.getByRole('row')).toHaveCount(10);
+	await expect(inventory.getByRole('row')).toHaveCount(11);
+	// Natural order: K9 before K10.
+	await expect(inventory.getByRole('row').nth(9)).toContainText('K9');
+	await expect(inventory.getByRole('row').nth(10)).toContainText('K10');
 	const low = inventory.getByRole('row', { name: /K5/ });
 	await expect(low).toContainText('suspect');
-	await expect(low).toContainText('more than 100 mV below the batch');
-	await expect(inventory.getByRole('row', { name: /K1/ })).toContainText('ok');
+	await expect(low).toContainText('298 mV below the batch median 3.60 V'); // 3.600 − 3.302
+	const flat = inventory.getByRole('row', { name: /K10/ });
+	await expect(flat).toContainText('rejected');
+	await expect(flat).toContainText('arrived at 2.10 V, below the 2.50 V minimum: over-discharged — do not charge it');
+	await expect(inventory.getByRole('row', { name: /^K1\s/ })).toContainText('ok');
 
 	await page.goto(page.url().replace('/cells', '/matching'));
 	await page.getByRole('button', { name: 'Propose a matching' }).click();
@@ -79,4 +87,12 @@ test('a builder records a 4S2P pack, inspects its cells from a CSV and matches t
 
 	await page.goto(page.url().replace('/matching', ''));
 	await expect(page.getByText('8 of 8 cells placed')).toBeVisible();
+
+	// K10's 2.10 V was a typo for 3.61 V: the edit brings it back among the cells not placed.
+	await page.getByRole('link', { name: /^Cells \(/ }).click();
+	await page.getByRole('button', { name: 'Edit K10' }).click();
+	await page.getByLabel('Volts', { exact: true }).fill('3,610');
+	await page.getByRole('button', { name: 'Save K10' }).click();
+	await expect(page.getByRole('status').filter({ hasText: 'K10 saved. It is no longer rejected' })).toBeVisible();
+	await expect(inventory.getByRole('row', { name: /K10/ })).toContainText('not placed');
 });
