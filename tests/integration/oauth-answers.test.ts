@@ -14,6 +14,7 @@ import { GET as start } from '../../src/routes/login/oauth/[provider]/+server';
 import { GET as callback } from '../../src/routes/login/oauth/[provider]/callback/+server';
 import { fakeSubject } from '../fakes/oauth.js';
 import { signUpOwner } from './helpers';
+import { cookieJar, redirectOf } from './oauth-flow';
 
 type Answer = { status: number; body: unknown; type?: string };
 /** Path → answer; a function answers from the request (to pass through to the fake provider). */
@@ -120,22 +121,8 @@ describe('the OAuth callback with a bad userinfo answer', () => {
 	async function signInThroughFake(email: string, signedIn: { id: string } | null = null) {
 		const intent = signedIn ? 'link' : 'signin';
 		const locals = { user: signedIn };
-		const jar = new Map<string, string>();
-		const cookies = {
-			get: (name: string) => jar.get(name),
-			set: (name: string, value: string) => void jar.set(name, value),
-			delete: (name: string) => void jar.delete(name)
-		};
-		const thrown = (fn: () => unknown) =>
-			Promise.resolve()
-				.then(fn)
-				.then(
-					() => {
-						throw new Error('expected a redirect');
-					},
-					(e: { status: number; location: string }) => e
-				);
-		const started = await thrown(() =>
+		const { cookies } = cookieJar();
+		const started = await redirectOf(() =>
 			start({ params: { provider: 'oauth' }, url: new URL(`${origin}/login/oauth/oauth?intent=${intent}`), cookies, locals } as never)
 		);
 		const authorize = new URL(started.location);
@@ -145,7 +132,7 @@ describe('the OAuth callback with a bad userinfo answer', () => {
 		form.set('decision', 'allow');
 		const back = await fetch(`${authorize.origin}${authorize.pathname}`, { method: 'POST', body: form, redirect: 'manual' });
 		const returned = new URL(back.headers.get('location') ?? '');
-		return thrown(() =>
+		return redirectOf(() =>
 			callback({ params: { provider: 'oauth' }, url: returned, cookies, locals } as never)
 		);
 	}

@@ -12,6 +12,7 @@ import { providerInfo } from '$lib/server/auth/oauth';
 import { rereadServerEnv } from '$lib/server/env';
 import { GET as start } from '../../src/routes/login/oauth/[provider]/+server';
 import { GET as callback } from '../../src/routes/login/oauth/[provider]/callback/+server';
+import { cookieJar, redirectOf } from './oauth-flow';
 
 const origin = 'http://127.0.0.1:3100';
 let server: OAuth2Server;
@@ -45,16 +46,6 @@ afterAll(async () => {
 	await server.stop();
 });
 
-const redirectOf = (fn: () => unknown) =>
-	Promise.resolve()
-		.then(fn)
-		.then(
-			() => {
-				throw new Error('expected a redirect');
-			},
-			(e: { status: number; location: string }) => e
-		);
-
 describe('our client against oauth2-mock-server', () => {
 	it('the button names the configured provider, or its host when no name is set', () => {
 		expect(providerInfo('oauth')?.name).toBe('Reference server');
@@ -76,12 +67,7 @@ describe('our client against oauth2-mock-server', () => {
 			response.body = { sub: subject, email, email_verified: true, name: 'Reference Builder' };
 		});
 
-		const jar = new Map<string, string>();
-		const cookies = {
-			get: (name: string) => jar.get(name),
-			set: (name: string, value: string) => void jar.set(name, value),
-			delete: (name: string) => void jar.delete(name)
-		};
+		const { jar, cookies } = cookieJar();
 		const locals = { user: null };
 		const started = await redirectOf(() =>
 			start({ params: { provider: 'oauth' }, url: new URL(`${origin}/login/oauth/oauth`), cookies, locals } as never)
@@ -110,11 +96,10 @@ describe('our client against oauth2-mock-server', () => {
 		let tokenRequests = 0;
 		const count = () => void tokenRequests++;
 		server.service.on('beforeResponse', count);
-		const jar = new Map<string, string>([
+		const { cookies } = cookieJar([
 			['oauth_state', generateState()],
 			['oauth_verifier', generateCodeVerifier()]
 		]);
-		const cookies = { get: (n: string) => jar.get(n), set: () => {}, delete: () => {} };
 		const back = new URL(`${origin}/login/oauth/oauth/callback?code=anything&state=${generateState()}`);
 		const done = await redirectOf(() => callback({ params: { provider: 'oauth' }, url: back, cookies, locals: { user: null } } as never));
 		server.service.off('beforeResponse', count);
