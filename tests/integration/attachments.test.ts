@@ -435,7 +435,8 @@ describe('the attachment endpoints', () => {
 			status: 403
 		});
 		await expect(single.DELETE(event(viewer, otherPack, { method: 'DELETE', attachmentId: row.id }))).rejects.toMatchObject({
-			status: 403
+			status: 403,
+			body: { message: 'A viewer cannot add or remove files in this workshop.' }
 		});
 
 		// Another workshop's owner, on this workshop's URL: not a member, so 404 before anything else.

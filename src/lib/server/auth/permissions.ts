@@ -12,7 +12,10 @@ const actionWords: Partial<Record<Action, string>> = {
 	'workshop.edit': 'change the workshop',
 	'packs.edit': 'change packs',
 	'chargers.edit': 'change chargers',
-	'plans.edit': 'plan sessions'
+	'plans.edit': 'plan sessions',
+	'specs.edit': 'change cell specs or chemistry profiles',
+	'measurements.edit': 'record cell measurements',
+	'attachments.add': 'add or remove files'
 };
 
 /** The signed-in user, or a redirect to sign-in that comes back here. */
