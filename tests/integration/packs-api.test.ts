@@ -116,6 +116,17 @@ describe('PATCH of a pack', () => {
 		expect(after).toMatchObject({ ...full, parallel: 4, notes: 'Re-welded group 7.', status: 'retired' });
 	});
 
+	it('answers a body of the wrong shape (an array, null, a number) in plain words', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		const ws = owner.workshop.slug;
+		const params = { workshop: ws, packId: pack.id };
+		for (const body of [[], null, 42, '"name"']) {
+			const answer = await packApi.PATCH(apiEvent(owner, `/api/w/${ws}/packs/${pack.id}`, params, { method: 'PATCH', body }));
+			expect(answer.status, JSON.stringify(body)).toBe(400);
+			expect(((await answer.json()) as { message: string }).message).toBe('The request body must be a JSON object.');
+		}
+	});
+
 	it('refuses a body that is not sent as application/json with 415, and changes nothing', async () => {
 		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
 		const ws = owner.workshop.slug;

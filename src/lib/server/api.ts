@@ -34,6 +34,10 @@ export async function readJson<S extends z.ZodType>(request: Request, schema: S)
 	}
 	const parsed = schema.safeParse(body);
 	if (parsed.success) return parsed.data;
+	const whole = parsed.error.issues.find((i) => i.path.length === 0 && i.code === 'invalid_type');
+	if (whole && whole.code === 'invalid_type') {
+		return problem(400, { message: `The request body must be a JSON ${whole.expected === 'array' ? 'list' : 'object'}.` });
+	}
 	return problem(400, {
 		message: 'Some fields are not valid.',
 		errors: parsed.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }))
