@@ -10,14 +10,15 @@ import type { CellRow } from '$lib/cells-csv';
 import { addCells } from '$lib/server/cells';
 import { db, sqlClient } from '$lib/server/db';
 import { PG, pgCode } from '$lib/server/db/errors';
-import { cells, cellSpecs, chargerChannels, chargers, packGroups, packs } from '$lib/server/db/schema';
+import { cells, cellSpecs, chargerChannels, chargers, memberships, packGroups, packs } from '$lib/server/db/schema';
 import { newId } from '$lib/server/ids';
 import { acceptMatching, proposeMatching } from '$lib/server/matching';
 import { updatePack } from '$lib/server/packs';
+import { removeMember } from '$lib/server/workshops-members';
 import * as cellsApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/cells/+server';
 import * as cellsPage from '../../src/routes/(app)/w/[workshop=slug]/packs/[packId=id]/cells/+page.server';
 import * as matchingApi from '../../src/routes/api/w/[workshop=slug]/packs/[packId=id]/matching/+server';
-import { apiEvent, packFixture } from './helpers';
+import { apiEvent, joinAs, packFixture } from './helpers';
 
 // Invented measurements (test data, not check values): near-identical healthy NMC cells.
 const healthy = (n: number, prefix = 'K'): CellRow[] =>
@@ -376,5 +377,54 @@ describe('ranges and same-workshop keys in the database', () => {
 		await db.update(cellSpecs).set({ maxBurstSeconds: 10 }).where(eq(cellSpecs.id, spec.id));
 		const [row] = await db.select().from(cellSpecs).where(eq(cellSpecs.id, spec.id));
 		expect(row.maxBurstSeconds).toBe(10);
+	});
+});
+
+describe('a pack owner is always a member of the workshop', () => {
+	const outcome = (p: PromiseLike<unknown>) =>
+		Promise.resolve(p).then(
+			() => 'ok',
+			(e: unknown) => pgCode(e) ?? String(e)
+		);
+
+	it('refuses a pack owner who is not a member, at the database', async () => {
+		const a = await packFixture({ series: 1, parallel: 1 });
+		const b = await packFixture({ series: 1, parallel: 1 });
+		// b's owner has an account but no membership in a's workshop.
+		expect(await outcome(db.update(packs).set({ packOwnerId: b.owner.user.id }).where(eq(packs.id, a.pack.id)))).toBe(
+			PG.foreignKeyViolation
+		);
+	});
+
+	it('clears the pack owner when the membership row goes, whoever deletes it', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		const viewer = await joinAs(owner, 'viewer');
+		await db.update(packs).set({ packOwnerId: viewer.user.id }).where(eq(packs.id, pack.id));
+		await db
+			.delete(memberships)
+			.where(and(eq(memberships.workshopId, owner.workshop.id), eq(memberships.userId, viewer.user.id)));
+		const [row] = await db.select().from(packs).where(eq(packs.id, pack.id));
+		expect(row.packOwnerId).toBeNull();
+	});
+
+	it('a pack owner named at the moment the member is removed never outlives the membership', async () => {
+		const { owner, pack } = await packFixture({ series: 1, parallel: 1 });
+		for (let round = 0; round < 4; round++) {
+			const viewer = await joinAs(owner, 'viewer');
+			const [named] = await Promise.allSettled([
+				updatePack(owner, pack.id, { packOwnerId: viewer.user.id }),
+				removeMember(owner, viewer.user.id)
+			]);
+			// Naming the owner may lose the race: a refusal in words, or the database's foreign-key
+			// refusal, which the API and form actions answer with 409 (input-problems.ts).
+			if (named.status === 'rejected') expect(pgCode(named.reason)).toBe(PG.foreignKeyViolation);
+			const [row] = await db.select().from(packs).where(eq(packs.id, pack.id));
+			const [stillMember] = await db
+				.select()
+				.from(memberships)
+				.where(and(eq(memberships.workshopId, owner.workshop.id), eq(memberships.userId, viewer.user.id)));
+			expect(stillMember).toBeUndefined();
+			expect(row.packOwnerId).toBeNull();
+		}
 	});
 });

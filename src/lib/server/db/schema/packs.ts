@@ -140,6 +140,8 @@ export const packs = pgTable(
 		bmsBalanceAmps: doublePrecision('bms_balance_amps'),
 		status: packStatusEnum('status').notNull().default('planning'),
 		/** The member whose pack it is (often a viewer). */
+		// Also (workshop_id, pack_owner_id) → memberships ON DELETE SET NULL (pack_owner_id), written
+		// by hand in drizzle/0003_pack-owner-is-member.sql: a pack owner is always a member.
 		packOwnerId: text('pack_owner_id').references(() => users.id, { onDelete: 'set null' }),
 		measuredPeakAmps: doublePrecision('measured_peak_amps'),
 		measuredPeakNote: text('measured_peak_note').notNull().default(''),
