@@ -59,6 +59,7 @@ describe('include suspect cells', () => {
 		expect(proposal.suspectsUsed.map((s) => s.label)).toEqual(['WEAK']);
 		expect(proposal.suspectsUsed[0].reasons[0]).toMatch(/^capacity 3\.60 Ah, 10 % under the batch median 4\.00 Ah/);
 		expect(proposal.suspectsLeft).toBe(2);
+		expect(proposal.suspectNote).toMatch(/^The good cells were 1 cell short, so the least risky suspect cell went in: WEAK \(capacity .*\)\. The other 2 suspect cells stay spares\.$/);
 	});
 
 	it('uses no suspect cell when the good ones are enough', async () => {

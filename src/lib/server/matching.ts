@@ -100,7 +100,11 @@ export async function proposeMatching(
 	const suspectNote = used.length
 		? `The good cells were ${cellsWord(short)} short, so the least risky suspect ${used.length === 1 ? 'cell went' : 'cells went'} in: ` +
 			used.map((c) => `${c.label} (${c.reasons.join('; ')})`).join(', ') +
-			(choice.left.length ? `. The other ${cellsWord(choice.left.length)} suspect stay spares.` : '.')
+			(choice.left.length === 1
+				? '. The other suspect cell stays a spare.'
+				: choice.left.length
+					? `. The other ${choice.left.length} suspect cells stay spares.`
+					: '.')
 		: null;
 	return {
 		...match,
