@@ -16,7 +16,7 @@ import { db, type Tx } from './db';
 import { isUniqueViolation } from './db/errors';
 import { cells, packGroups, packs, type Cell, type Pack } from './db/schema';
 import { newId } from './ids';
-import { requirePack } from './packs';
+import { lockPack, requirePack } from './packs';
 
 export type InspectedCell = Cell & {
 	groupIndex: number | null;
@@ -195,7 +195,7 @@ export async function correctCell(
 	};
 	try {
 		return await db.transaction(async (tx) => {
-			await tx.select({ id: packs.id }).from(packs).where(eq(packs.id, packId)).for('update');
+			await lockPack(tx, member, packId);
 			const [updated] = await tx
 				.update(cells)
 				.set(set)

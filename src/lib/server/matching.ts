@@ -3,14 +3,14 @@
  * cells by hand, and accepting writes every cell's place in one transaction.
  */
 import { createHash } from 'node:crypto';
-import { and, asc, eq, ne, sql } from 'drizzle-orm';
+import { asc, eq, ne, sql } from 'drizzle-orm';
 import { matchCells, pickLeastRiskySuspects, type Match } from '$lib/engine';
 import { requirePermission, type Member } from './auth/permissions';
 import { getCellSpec } from './cell-specs';
 import { inspectBatch, listBatch, type InspectedCell } from './cells';
 import { db } from './db';
-import { cells, packGroups, packs, type Cell, type Pack } from './db/schema';
-import { requirePack } from './packs';
+import { cells, packGroups, type Cell, type Pack } from './db/schema';
+import { lockPack, requirePack } from './packs';
 
 /** A cell's capacity for matching: measured, else the spec's nominal capacity. */
 export function matchingCapacity(cell: Pick<InspectedCell, 'capacityAh'>, nominalAh: number): number {
@@ -170,11 +170,7 @@ export async function acceptMatching(
 	const visible = await requirePack(member, packId);
 	const spec = await getCellSpec(member, visible.cellSpecId);
 	return db.transaction(async (tx) => {
-		const [pack] = await tx
-			.select()
-			.from(packs)
-			.where(and(eq(packs.id, packId), eq(packs.workshopId, member.workshop.id)))
-			.for('update');
+		const pack = await lockPack(tx, member, packId);
 		const refuse = (reason: Extract<AcceptResult, { ok: false }>['reason'], message: string) =>
 			({ ok: false, reason, message }) as const;
 		if (!pack || pack.cellSpecId !== spec.id) return refuse('pack-changed', PACK_CHANGED_MESSAGE);

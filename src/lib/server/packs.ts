@@ -19,6 +19,20 @@ export function canSeePack(member: Member, pack: Pick<Pack, 'workshopId' | 'pack
 	return can(member.role, 'packs.viewOwn') && pack.packOwnerId === member.user.id;
 }
 
+/**
+ * Locks the pack row of the member's workshop for the rest of `tx` and reads it again (undefined
+ * when it is gone). Everything that reads a pack's shape or batch and then writes — a topology
+ * edit, a matching accept, a measurement edit — starts with this, so such writes never interleave.
+ */
+export async function lockPack(tx: Tx, member: Member, packId: string): Promise<Pack | undefined> {
+	const [pack] = await tx
+		.select()
+		.from(packs)
+		.where(and(eq(packs.id, packId), eq(packs.workshopId, member.workshop.id)))
+		.for('update');
+	return pack;
+}
+
 /** The pack, when the member may see it; 404 otherwise (another workshop's pack is never confirmed). */
 export async function requirePack(member: Member, packId: string): Promise<Pack> {
 	requirePermission(member, 'packs.viewOwn');
@@ -151,11 +165,7 @@ export async function updatePack(member: Member, packId: string, input: Partial<
 	if (refused) return refused;
 
 	return db.transaction(async (tx) => {
-		const [current] = await tx
-			.select()
-			.from(packs)
-			.where(and(eq(packs.id, packId), eq(packs.workshopId, member.workshop.id)))
-			.for('update');
+		const current = await lockPack(tx, member, packId);
 		if (!current) error(404, 'Not found');
 		const series = input.series ?? current.series;
 		const topologyChanged =
