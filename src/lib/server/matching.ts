@@ -3,7 +3,7 @@
  * cells by hand, and accepting writes every cell's place in one transaction.
  */
 import { createHash } from 'node:crypto';
-import { asc, eq, ne, sql } from 'drizzle-orm';
+import { asc, eq, sql } from 'drizzle-orm';
 import { matchCells, pickLeastRiskySuspects, type Match } from '$lib/engine';
 import { requirePermission, type Member } from './auth/permissions';
 import { getCellSpec } from './cell-specs';
