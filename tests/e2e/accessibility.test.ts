@@ -24,7 +24,7 @@ test('the signed-out pages pass axe in light and dark', async ({ page }) => {
 });
 
 test('the pages a builder uses pass axe in light and dark', async ({ page }) => {
-	test.setTimeout(240_000);
+	test.setTimeout(300_000);
 
 	const slug = await signUp(page, { name: 'Ada Access', email: uniqueEmail('a11y'), workshop: 'Access Bench' });
 	await page.goto(`/w/${slug}/cell-specs/new`);
@@ -50,6 +50,9 @@ test('the pages a builder uses pass axe in light and dark', async ({ page }) => 
 		`/w/${slug}/chargers`,
 		`/w/${slug}/chargers/new`,
 		`/w/${slug}/chemistries`,
+		`/w/${slug}/chemistries/new`,
+		`/w/${slug}/sessions`,
+		`/w/${slug}/alerts`,
 		`/w/${slug}/workshop`,
 		`/w/${slug}/workshop/members`,
 		'/account'
