@@ -14,7 +14,7 @@ import type { CellSpecWithChemistry } from './cell-specs';
 import { getCellSpec } from './cell-specs';
 import { db, type Tx } from './db';
 import { isUniqueViolation } from './db/errors';
-import { cells, packGroups, packs, type Cell, type Pack } from './db/schema';
+import { cells, packGroups, type Cell, type Pack } from './db/schema';
 import { newId } from './ids';
 import { lockPack, requirePack } from './packs';
 
@@ -115,7 +115,7 @@ export async function addCells(
 		return await db.transaction(async (tx) => {
 			// A share lock on the pack: imports run side by side, but wait for an accepted matching
 			// or a topology change (which lock it for update) and so never land in the middle of one.
-			await tx.select({ id: packs.id }).from(packs).where(eq(packs.id, packId)).for('share');
+			await lockPack(tx, member, packId, 'share');
 			const refused = duplicateLabels(rows, await storedLabels(tx), rowOf);
 			if (refused) return refused;
 			// One statement over unnest()ed columns: atomic, five parameters however many rows

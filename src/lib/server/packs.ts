@@ -23,13 +23,14 @@ export function canSeePack(member: Member, pack: Pick<Pack, 'workshopId' | 'pack
  * Locks the pack row of the member's workshop for the rest of `tx` and reads it again (undefined
  * when it is gone). Everything that reads a pack's shape or batch and then writes — a topology
  * edit, a matching accept, a measurement edit — starts with this, so such writes never interleave.
+ * `share` lets writers that only add (cell imports) run side by side while still waiting for those.
  */
-export async function lockPack(tx: Tx, member: Member, packId: string): Promise<Pack | undefined> {
+export async function lockPack(tx: Tx, member: Member, packId: string, mode: 'update' | 'share' = 'update'): Promise<Pack | undefined> {
 	const [pack] = await tx
 		.select()
 		.from(packs)
 		.where(and(eq(packs.id, packId), eq(packs.workshopId, member.workshop.id)))
-		.for('update');
+		.for(mode);
 	return pack;
 }
 
