@@ -1,3 +1,4 @@
 export * from './accounts';
 export * from './packs';
 export * from './chargers';
+export * from './sessions';

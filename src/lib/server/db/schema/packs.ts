@@ -150,6 +150,8 @@ export const packs = pgTable(
 	},
 	(t) => [
 		index('packs_workshop_idx').on(t.workshopId),
+		// Target of charge_sessions' same-workshop key.
+		unique('packs_id_workshop_key').on(t.id, t.workshopId),
 		foreignKey({
 			name: 'packs_cell_spec_same_workshop_fk',
 			columns: [t.cellSpecId, t.workshopId],
