@@ -211,7 +211,7 @@ function channelLabel(charger: PlanCharger, c: PlanChannel): string {
 }
 
 /** Spans of a step with nobody there: while it charges, and after it while the group is held. */
-function unattendedSpans(step: PlannedStep, windows: HandsOnWindow[] | null): UnattendedSpan[] {
+export function unattendedSpans(step: PlannedStep, windows: HandsOnWindow[] | null): UnattendedSpan[] {
 	if (windows === null) return [];
 	const out: UnattendedSpan[] = [];
 	const sorted = [...windows].sort((a, b) => a.start.getTime() - b.start.getTime());
