@@ -1,0 +1,126 @@
+/**
+ * The run screen's words and numbers as the bench reads them (look.md: units after a thin space,
+ * volts to 3 decimals, currents to 2, temperatures whole; state as a word). Client-safe, no clock
+ * inside: times are passed in.
+ */
+
+/** look.md's states: within limits, near a limit (or a reading due), a limit crossed, not charging / no data. */
+export type RunState = 'steady' | 'watch' | 'act-now' | 'idle';
+
+export const stateWords: Record<RunState, string> = {
+	steady: 'steady',
+	watch: 'watch',
+	'act-now': 'act now',
+	idle: 'idle'
+};
+
+const THIN = '\u2009';
+const MINUS = '\u2212';
+
+/** Volts of a reading, to the millivolt: `4.182 V`. */
+export function formatVolts(volts: number): string {
+	return `${volts.toFixed(3)}${THIN}V`;
+}
+
+/** A set voltage as the supply's dial shows it: `4.20 V`, `54.60 V`. */
+export function formatSetVolts(volts: number): string {
+	return `${volts.toFixed(2)}${THIN}V`;
+}
+
+/** Amps without trailing zeros, at most 2 decimals: `10 A`, `2.5 A`, `0.35 A`. */
+export function formatSetAmps(amps: number): string {
+	return `${Number(amps.toFixed(2))}${THIN}A`;
+}
+
+/** Amps of a reading, to 2 decimals: `3.10 A`. */
+export function formatAmps(amps: number): string {
+	return `${amps.toFixed(2)}${THIN}A`;
+}
+
+/** Difference from the pack's mean with its sign: `+12 mV`, `−3 mV`, `0 mV`. */
+export function formatMilliVolts(milliVolts: number): string {
+	const mv = Math.round(milliVolts);
+	if (mv === 0) return `0${THIN}mV`;
+	return `${mv > 0 ? '+' : MINUS}${Math.abs(mv)}${THIN}mV`;
+}
+
+/** Whole degrees: `31 °C`. */
+export function formatTemp(tempC: number): string {
+	const t = Math.round(tempC);
+	return `${t < 0 ? MINUS : ''}${Math.abs(t)}${THIN}°C`;
+}
+
+/** A duration in hours as people say it: `2 h 15 min`, `45 min`, `under a minute`. */
+export function formatHours(hours: number): string {
+	if (!Number.isFinite(hours) || hours < 0) return 'unknown';
+	const minutes = Math.round(hours * 60);
+	if (minutes < 1) return 'under a minute';
+	const h = Math.floor(minutes / 60);
+	const m = minutes % 60;
+	if (h === 0) return `${m}${THIN}min`;
+	if (m === 0) return `${h}${THIN}h`;
+	return `${h}${THIN}h ${m}${THIN}min`;
+}
+
+/** A group's name on screen: group 5, or the whole pack. */
+export function groupName(groupIndex: number | null): string {
+	return groupIndex === null ? 'the whole pack' : `group ${groupIndex}`;
+}
+
+function capitalise(text: string): string {
+	return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+export type InstructionStep = {
+	groupIndex: number | null;
+	role: string;
+	/** The supply's set volts (per cell for a group, the pack's for the whole pack). */
+	setVolts: number | null;
+	amps: number | null;
+	channelLabel: string;
+};
+
+/**
+ * What to do to start a step: "Move the leads to group 5, set 4.20 V and 10 A". `move` says the
+ * leads are already on another group (a previous step on the same channel); `showChannel` prefixes
+ * the channel when the plan uses several.
+ */
+export function stepInstruction(step: InstructionStep, opts: { move: boolean; showChannel: boolean }): string {
+	const target = groupName(step.groupIndex);
+	const settings = [
+		step.setVolts !== null ? `set ${formatSetVolts(step.setVolts)}` : null,
+		step.amps !== null && step.amps > 0 ? formatSetAmps(step.amps) : null
+	].filter(Boolean);
+	const setPart = settings.length ? `, ${settings.join(' and ')}` : '';
+	let text: string;
+	switch (step.role) {
+		case 'bleed':
+			text = `connect the bleed load to ${target}${step.amps ? ` (about ${formatSetAmps(step.amps)})` : ''}`;
+			break;
+		case 'rest':
+			text = `leave ${target} disconnected and let it rest`;
+			break;
+		case 'balance':
+			text = `leave the pack on its charger while the BMS balances the groups`;
+			break;
+		default:
+			text = `${step.groupIndex === null ? 'connect the charger to' : step.groupIndex !== null && opts.move ? 'move the leads to' : 'connect the leads to'} ${target}${setPart}`;
+	}
+	const channel = opts.showChannel && step.channelLabel ? `${step.channelLabel}: ` : '';
+	return channel ? `${channel}${text}` : capitalise(text);
+}
+
+/** What is still in the page's queue, in words. */
+export function waitingText(count: number, online: boolean): string {
+	if (count <= 0) return '';
+	const what = count === 1 ? '1 reading waiting to send' : `${count} readings waiting to send`;
+	return online ? `${what} — sending now.` : `${what} — they will go when the connection is back.`;
+}
+
+/** When the next reading is due, relative to now: "due in 12 min", "due now", "overdue by 20 min". */
+export function dueText(dueAt: Date, now: Date): string {
+	const minutes = (dueAt.getTime() - now.getTime()) / 60_000;
+	if (minutes >= 1) return `due in ${formatHours(minutes / 60)}`;
+	if (minutes > -1) return 'due now';
+	return `overdue by ${formatHours(-minutes / 60)}`;
+}
