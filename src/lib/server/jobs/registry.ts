@@ -7,13 +7,17 @@
  */
 import type PgBoss from 'pg-boss';
 import { ensureQueue, startBoss, stopBoss } from './boss';
+import { closeFinishedSessionsJob } from './close-finished-sessions';
 import type { JobDefinition } from './define';
 import { passwordResetMail } from './password-reset-mail';
 import { purgeExpired } from './purge-expired';
+import { readingClockJob } from './reading-clock';
 
 const definitions = {
 	'password-reset-mail': passwordResetMail,
-	'purge-expired': purgeExpired
+	'purge-expired': purgeExpired,
+	'close-finished-sessions': closeFinishedSessionsJob,
+	'reading-clock': readingClockJob
 };
 
 export type QueueName = keyof typeof definitions;
