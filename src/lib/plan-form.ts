@@ -4,7 +4,8 @@
  * be open on a laptop in another zone, and the server reads the same values with the same code.
  * Client-safe.
  */
-import { TZDate } from '@date-fns/tz';
+import { TZDate, tz } from '@date-fns/tz';
+import { format } from 'date-fns';
 import { parseDecimal } from '$lib/cells-csv-columns';
 import type { Limits } from '$lib/engine';
 import type { SessionKind, SessionPlanInput, SessionTarget } from '$lib/session-plan';
@@ -128,14 +129,15 @@ export function limitText(value: number): string {
  */
 export function mergeLimits(
 	defaults: Limits,
-	overrides: Partial<Record<LimitKey, string>>,
+	typed: Partial<Record<LimitKey, string>>,
 	readingIntervalMinutes: number
-): { limits: Limits; loosened: LoosenedLimit[]; errors: PlanFormErrors } {
+): { limits: Limits; overrides: Partial<Limits>; loosened: LoosenedLimit[]; errors: PlanFormErrors } {
 	const limits: Limits = { ...defaults, readingIntervalMinutes };
+	const overrides: Partial<Limits> = {};
 	const loosened: LoosenedLimit[] = [];
 	const errors: PlanFormErrors = {};
 	for (const f of limitFields) {
-		const text = overrides[f.key];
+		const text = typed[f.key];
 		if (text === undefined || text.trim() === '') continue;
 		const value = numberFrom(text);
 		if (value === null || (f.unit !== '°C' && value <= 0)) {
@@ -143,11 +145,12 @@ export function mergeLimits(
 			continue;
 		}
 		limits[f.key] = value;
+		overrides[f.key] = value;
 		const def = defaults[f.key];
 		const isLooser = f.looser === 'higher' ? value > def + 1e-9 : value < def - 1e-9;
 		if (isLooser) loosened.push({ key: f.key, label: f.label, unit: f.unit, defaultValue: def, value });
 	}
-	return { limits, loosened, errors };
+	return { limits, overrides, loosened, errors };
 }
 
 /**
@@ -195,6 +198,10 @@ export function toPlanInput(values: PlanFormValues, timeZone: string, groupIds: 
 	if (values.amps.trim() !== '' && !(amps !== null && amps > 0)) errors.amps = 'Give the current in amps, or leave it empty for as much as the charger and the cells allow.';
 	const swap = numberFrom(values.swapMinutes);
 	if (swap === null || swap < 0 || swap > 240 || !Number.isInteger(swap)) errors.swapMinutes = 'Give whole minutes from 0 to 240.';
+	const interval = numberFrom(values.readingIntervalMinutes);
+	if (interval === null || !Number.isInteger(interval) || interval < 5 || interval > 720) {
+		errors.readingIntervalMinutes = 'Give whole minutes from 5 to 720 (60 is hourly).';
+	}
 	let bleedLoad: SessionPlanInput['bleedLoad'] = null;
 	if (values.kind === 'bleed') {
 		const v = numberFrom(values.bleedValue);
@@ -261,4 +268,45 @@ export function nightWatchFor(values: Pick<PlanFormValues, 'start' | 'daily'>): 
 	const morning = rows.length ? rows.map((w) => w.from).sort()[0] : '07:00';
 	const next = new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]) + 1)).toISOString().slice(0, 10);
 	return { start: `${day}T${evening}`, end: `${next}T${morning}` };
+}
+
+/**
+ * The body the plan form posts (the fields of `sessionPlanSchema`): instants as ISO text, so the
+ * server reads the same moments the browser planned with.
+ */
+export function toPlanPayload(values: PlanFormValues, input: SessionPlanInput, overrides: Partial<Limits>) {
+	return {
+		packId: values.packId,
+		name: values.name.trim(),
+		kind: input.kind,
+		target: input.target,
+		targetVolts: input.targetVolts ?? null,
+		amps: input.amps ?? null,
+		chargerId: input.chargerId ?? null,
+		channelIds: input.channelIds,
+		topUpChannelId: input.topUpChannelId ?? null,
+		bleedLoad: input.bleedLoad ?? null,
+		restHours: input.restHours ?? null,
+		swapMinutes: input.swapMinutes,
+		plannedStart: input.plannedStart.toISOString(),
+		handsOn: input.handsOn,
+		readingIntervalMinutes: numberFrom(values.readingIntervalMinutes) ?? 60,
+		limits: overrides,
+		limitsConfirmation: values.limitsConfirmation.trim(),
+		startVolts: input.startVolts,
+		watchUserId: values.watchUserId || null
+	};
+}
+
+/** Plan times are sums of fractional hours: 06:59:59.998 is shown as the 07:00 it means. */
+const toMinute = (date: Date) => new Date(Math.round(date.getTime() / MINUTE_MS) * MINUTE_MS);
+
+/** A plan's time as the bench reads it, in the workshop's zone: "Sat 28 Mar, 08:10". */
+export function planWhen(date: Date, timeZone: string): string {
+	return format(toMinute(date), 'EEE d MMM, HH:mm', { in: tz(timeZone) });
+}
+
+/** The wall-clock time alone, in the workshop's zone: "08:10". */
+export function planClock(date: Date, timeZone: string): string {
+	return format(toMinute(date), 'HH:mm', { in: tz(timeZone) });
 }
