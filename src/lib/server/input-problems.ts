@@ -5,7 +5,7 @@
  * such input never becomes a 500. Anything else is a bug and stays one.
  */
 import { error } from '@sveltejs/kit';
-import { PG, pgCode } from './db/errors';
+import { PG, pgCode, pgConstraint } from './db/errors';
 
 export type InputProblem = { status: 400 | 409; message: string };
 
@@ -31,9 +31,21 @@ const problems: Record<string, InputProblem> = {
 	[PG.lockNotAvailable]: conflict('Someone is changing this right now. Try again in a moment.')
 };
 
+/** Check violations that are conflicts with recorded data, not bad numbers: by constraint name. */
+const conflicts: Record<string, InputProblem> = {
+	// The trigger behind updatePack's own check (drizzle/0004_charge-sessions.sql).
+	packs_keep_shape: conflict(
+		'This pack has charge sessions: its groups in series, cells per group and cell spec stay as they are. Make a new pack for another layout.'
+	)
+};
+
 /** The 4xx answer for a database error caused by input, or null when the error is something else. */
 export function inputProblem(e: unknown): InputProblem | null {
 	const code = pgCode(e);
+	if (code === PG.checkViolation) {
+		const name = pgConstraint(e);
+		if (name && Object.hasOwn(conflicts, name)) return conflicts[name];
+	}
 	return code ? (problems[code] ?? null) : null;
 }
 

@@ -9,7 +9,7 @@ import type { PackInput } from '$lib/schemas/packs';
 import { requirePermission, type Member } from './auth/permissions';
 import { getCellSpec, type CellSpecWithChemistry } from './cell-specs';
 import { db, type Tx } from './db';
-import { cells, cellSpecs, memberships, packGroups, packs, users, type Pack } from './db/schema';
+import { cells, cellSpecs, chargeSessions, memberships, packGroups, packs, users, type Pack } from './db/schema';
 import { newId } from './ids';
 
 /** True when the member may see this pack: every role but viewer sees all; a viewer only their own. */
@@ -154,10 +154,24 @@ export async function createPack(member: Member, input: PackInput): Promise<Pack
 }
 
 /**
+ * Why a pack with charge sessions keeps its shape: the readings and plans recorded against its
+ * groups only mean something for the layout they were taken on. (The packs_keep_shape trigger
+ * refuses the same change on any other path.)
+ */
+export const PACK_KEEPS_SHAPE =
+	'This pack has charge sessions: its groups in series, cells per group and cell spec stay as they are, so that its readings keep their meaning. Make a new pack for another layout.';
+
+async function hasSessions(tx: Tx, packId: string): Promise<boolean> {
+	const [row] = await tx.select({ id: chargeSessions.id }).from(chargeSessions).where(eq(chargeSessions.packId, packId)).limit(1);
+	return Boolean(row);
+}
+
+/**
  * Changes a pack. A new topology or cell spec clears the matching (the cells go back to unsorted)
  * and adds or removes groups — all in one transaction that starts by locking the pack row and
  * reads the pack again under the lock, so two edits, or an edit and an accepted matching
  * (acceptMatching locks the same row), never interleave: the later one sees what the earlier wrote.
+ * A pack with charge sessions keeps its shape (409); createSession takes the same lock.
  */
 export async function updatePack(member: Member, packId: string, input: Partial<PackInput>): Promise<PackWriteResult> {
 	requirePermission(member, 'packs.edit');
@@ -173,6 +187,7 @@ export async function updatePack(member: Member, packId: string, input: Partial<
 			series !== current.series ||
 			(input.parallel ?? current.parallel) !== current.parallel ||
 			(input.cellSpecId ?? current.cellSpecId) !== current.cellSpecId;
+		if (topologyChanged && (await hasSessions(tx, packId))) error(409, PACK_KEEPS_SHAPE);
 		let clearedAssignment = false;
 		if (topologyChanged) {
 			const cleared = await tx
