@@ -10,6 +10,7 @@ import { hashPassword } from '../auth/passwords';
 import { newId } from '../ids';
 import { loadDemoChargers } from './chargers';
 import { loadDemoPacks } from './packs';
+import { loadDemoSessions } from './sessions';
 
 export const demoWorkshop = { name: 'Larkfield Battery Bench', slug: 'larkfield', timeZone: 'Europe/London' };
 
@@ -34,5 +35,12 @@ export async function loadDemoIfEmpty(password: string): Promise<boolean> {
 		await loadDemoPacks(tx, workshopId, ids);
 		await loadDemoChargers(tx, workshopId, ids.builder);
 	});
+	// After the commit: sessions are planned through createSession, which opens its own transaction.
+	const email = (role: Role) => demoPeople.find((p) => p.role === role)!.email;
+	try {
+		await loadDemoSessions(demoWorkshop.slug, { builder: email('builder'), technician: email('technician') });
+	} catch (e) {
+		console.error('The demo workshop loaded without its charge sessions:', e);
+	}
 	return true;
 }

@@ -9,7 +9,7 @@ import { cells, cellSpecs, packGroups, packs } from '../db/schema';
 import { newId } from '../ids';
 
 /** A small fixed-seed generator (mulberry32): the same demo every time. */
-function seeded(seed: number) {
+export function seeded(seed: number) {
 	let a = seed;
 	return () => {
 		a = (a + 0x6d2b79f5) | 0;

@@ -1,0 +1,135 @@
+// The demo's charge sessions, loaded the way `npm start` loads them: into an empty database. The
+// shared test database is not empty, so this file makes a scratch database in the same cluster,
+// migrates it, loads the demo, checks it and drops it.
+import { randomUUID } from 'node:crypto';
+import { and, asc, eq, isNull, sql } from 'drizzle-orm';
+import postgres from 'postgres';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { closeDb, db } from '$lib/server/db';
+import { auditEvents, chargeSessions, packGroups, packs, readings, sessionSteps, users } from '$lib/server/db/schema';
+import { loadDemoIfEmpty } from '$lib/server/demo';
+import { rereadServerEnv } from '$lib/server/env';
+import { runReadingClock } from '$lib/server/jobs/reading-clock';
+import { applyMigrations } from '$lib/server/migrate';
+
+const HOUR = 3_600_000;
+const sharedUrl = process.env.DATABASE_URL!;
+const scratchName = `cellsitter_demo_${randomUUID().slice(0, 8)}`;
+const admin = postgres(sharedUrl, { max: 1, onnotice: () => {} });
+let loadedAt: Date;
+
+beforeAll(async () => {
+	await admin.unsafe(`create database ${scratchName}`);
+	const url = new URL(sharedUrl);
+	url.pathname = `/${scratchName}`;
+	await closeDb();
+	process.env.DATABASE_URL = url.toString();
+	rereadServerEnv();
+	await applyMigrations();
+	loadedAt = new Date();
+	expect(await loadDemoIfEmpty('demo-password-for-tests')).toBe(true);
+});
+
+afterAll(async () => {
+	await closeDb();
+	process.env.DATABASE_URL = sharedUrl;
+	rereadServerEnv();
+	await admin.unsafe(`drop database if exists ${scratchName} with (force)`);
+	await admin.end();
+});
+
+async function sessionsOf(packName: string) {
+	return db
+		.select({ session: chargeSessions })
+		.from(chargeSessions)
+		.innerJoin(packs, eq(packs.id, chargeSessions.packId))
+		.where(eq(packs.name, packName));
+}
+
+describe('the demo sessions', () => {
+	it("has the cargo trike's overnight top balance done, with hourly readings of every group and a night watch", async () => {
+		const rows = await sessionsOf('Cargo trike pack');
+		expect(rows).toHaveLength(1);
+		const s = rows[0].session;
+		expect(s).toMatchObject({ status: 'done', kind: 'channels' });
+		expect(s.startedAt!.getTime()).toBeLessThan(loadedAt.getTime() - 7 * 24 * HOUR);
+		expect(s.endedAt!.getTime()).toBeGreaterThan(s.startedAt!.getTime());
+		// A night watch is one of its hands-on windows, and the plan has nobody-there spans of none.
+		expect(s.handsOn.once.length).toBeGreaterThan(0);
+		expect((s.planSummary as { unattended: unknown[] }).unattended).toEqual([]);
+		const [tech] = await db.select().from(users).where(eq(users.email, 'technician@larkfield.test'));
+		expect(s.watchUserId).toBe(tech.id);
+
+		const steps = await db.select().from(sessionSteps).where(eq(sessionSteps.sessionId, s.id)).orderBy(asc(sessionSteps.position));
+		// 13 groups, one step each, on the four channels; every step ended.
+		expect(steps).toHaveLength(13);
+		expect(new Set(steps.map((st) => st.channelId)).size).toBe(4);
+		expect(steps.every((st) => st.status === 'done' && st.actualStart && st.actualEnd)).toBe(true);
+		// Three or four groups at a time: at the first step's start, four steps overlap.
+		const t0 = steps[0].actualStart!.getTime() + 60_000;
+		expect(steps.filter((st) => st.actualStart!.getTime() <= t0 && st.actualEnd!.getTime() > t0)).toHaveLength(4);
+		// The night: it ran past midnight in the workshop's zone.
+		expect(s.endedAt!.getTime() - s.startedAt!.getTime()).toBeGreaterThan(6 * HOUR);
+
+		const logged = await db.select().from(readings).where(eq(readings.sessionId, s.id)).orderBy(asc(readings.takenAt));
+		const hours = (s.endedAt!.getTime() - s.startedAt!.getTime()) / HOUR;
+		// Every group at least once an hour through the session.
+		expect(logged.length).toBeGreaterThanOrEqual(13 * Math.floor(hours));
+		expect(logged.every((r) => r.enteredBy === tech.id && r.source === 'hand')).toBe(true);
+		const groups = await db.select().from(packGroups).where(eq(packGroups.packId, s.packId));
+		expect(new Set(logged.map((r) => r.groupId))).toEqual(new Set(groups.map((g) => g.id)));
+		// Volts per cell inside NMC's window (2.5–4.2 V, and under the over-voltage stop); currents only while charging, within the channel's 8 A.
+		for (const r of logged) {
+			expect(r.volts!).toBeGreaterThan(3.2);
+			expect(r.volts!).toBeLessThanOrEqual(4.2);
+			if (r.amps !== null) {
+				expect(r.amps).toBeGreaterThan(0);
+				expect(r.amps).toBeLessThanOrEqual(8.05);
+				expect(r.stepId).not.toBeNull();
+			}
+		}
+		// Charged: each group's last reading sits higher than its first.
+		for (const g of groups) {
+			const own = logged.filter((r) => r.groupId === g.id);
+			expect(own[own.length - 1].volts!).toBeGreaterThan(own[0].volts! + 0.3);
+		}
+		const done = await db.select().from(auditEvents).where(and(eq(auditEvents.sessionId, s.id), eq(auditEvents.kind, 'session.done')));
+		expect(done).toHaveLength(1);
+	});
+
+	it("has the camper battery's session running now: bulk done, a top-up step running, a reading within the hour", async () => {
+		const rows = await sessionsOf('Camper house battery');
+		expect(rows).toHaveLength(1);
+		const s = rows[0].session;
+		expect(s).toMatchObject({ status: 'running', kind: 'bulk-top-up', readingDueAt: null });
+		expect(s.startedAt!.getTime()).toBeLessThan(loadedAt.getTime());
+		expect((s.planSummary as { unattended: unknown[] }).unattended).toEqual([]);
+
+		const steps = await db.select().from(sessionSteps).where(eq(sessionSteps.sessionId, s.id)).orderBy(asc(sessionSteps.position));
+		expect(steps[0]).toMatchObject({ groupId: null, role: 'charge', status: 'done' });
+		const running = steps.filter((st) => st.status === 'running');
+		expect(running).toHaveLength(1);
+		expect(running[0].role).toBe('top-up');
+		expect(running[0].actualStart!.getTime()).toBeLessThanOrEqual(loadedAt.getTime());
+		// The plan goes on after now.
+		expect(running[0].expectedEnd.getTime()).toBeGreaterThan(loadedAt.getTime());
+
+		const [last] = await db
+			.select({ at: sql<Date>`max(${readings.takenAt})`.mapWith(readings.takenAt) })
+			.from(readings)
+			.where(eq(readings.sessionId, s.id));
+		expect(last.at.getTime()).toBeLessThanOrEqual(Date.now());
+		expect(Date.now() - last.at.getTime()).toBeLessThan(HOUR);
+		// While the whole pack charged, the pack's own reading too (4 cells of LFP: 4 × 2.5–3.65 V).
+		const packReadings = await db.select().from(readings).where(and(eq(readings.sessionId, s.id), isNull(readings.groupId)));
+		expect(packReadings.length).toBeGreaterThan(0);
+		for (const r of packReadings) expect(r.volts!).toBeGreaterThan(10), expect(r.volts!).toBeLessThanOrEqual(14.6);
+		// The running step's group has a current logged on it.
+		const onStep = await db.select().from(readings).where(eq(readings.stepId, running[0].id));
+		expect(onStep.some((r) => r.amps !== null && r.groupId === running[0].groupId)).toBe(true);
+
+		// The clock finds nothing due right after loading.
+		const clock = await runReadingClock(new Date());
+		expect(clock.marked).not.toContain(s.id);
+	});
+});
