@@ -1,0 +1,188 @@
+/**
+ * Live session events: one LISTEN on `cellsitter_session_events` per process (postgres.js keeps it
+ * on a dedicated connection and listens again after a reconnect), fanned out to the subscribers of
+ * each session. Every app instance listens, so a reading stored through one instance reaches the
+ * browsers connected to any other. The events themselves are sent by `notifySession` (notify.ts)
+ * inside the transaction of the change.
+ */
+import { and, eq } from 'drizzle-orm';
+import type { Member } from '../auth/permissions';
+import { db, sqlClient } from '../db';
+import { chargeSessions, packs } from '../db/schema';
+import { canSeePack } from '../packs';
+import { SESSION_EVENTS_CHANNEL, type SessionEvent } from './notify';
+
+type Listener = (event: SessionEvent) => void;
+
+const subscribers = new Map<string, Set<Listener>>();
+let listening: Promise<unknown> | undefined;
+
+function parseEvent(payload: string): SessionEvent | null {
+	try {
+		const event = JSON.parse(payload) as SessionEvent;
+		return typeof event?.sessionId === 'string' && typeof event.kind === 'string' ? event : null;
+	} catch {
+		return null;
+	}
+}
+
+function deliver(payload: string) {
+	const event = parseEvent(payload);
+	if (!event) return;
+	for (const fn of subscribers.get(event.sessionId) ?? []) {
+		try {
+			fn(event);
+		} catch (e) {
+			console.error('session event subscriber:', e);
+		}
+	}
+}
+
+/** Starts the process's one LISTEN (once); a failure is forgotten so that the next subscriber retries. */
+function ensureListening(): Promise<unknown> {
+	listening ??= sqlClient()
+		.listen(SESSION_EVENTS_CHANNEL, deliver)
+		.catch((e) => {
+			listening = undefined;
+			throw e;
+		});
+	return listening;
+}
+
+/**
+ * Calls `fn` with every event of the session from now on; resolves once the LISTEN is in place
+ * (so that nothing committed after it is missed) to the function that ends the subscription.
+ */
+export async function subscribe(sessionId: string, fn: Listener): Promise<() => void> {
+	let set = subscribers.get(sessionId);
+	if (!set) subscribers.set(sessionId, (set = new Set()));
+	set.add(fn);
+	const unsubscribe = () => {
+		set.delete(fn);
+		if (set.size === 0 && subscribers.get(sessionId) === set) subscribers.delete(sessionId);
+	};
+	try {
+		await ensureListening();
+	} catch (e) {
+		unsubscribe();
+		throw e;
+	}
+	return unsubscribe;
+}
+
+/** How many subscribers the session has in this process (for tests and diagnostics). */
+export function subscriberCount(sessionId: string): number {
+	return subscribers.get(sessionId)?.size ?? 0;
+}
+
+export type VisibleSession = { id: string; workshopId: string; packId: string; status: string; series: number };
+
+/**
+ * The session when the member may view it: in the member's workshop, and for a viewer only when
+ * they own the pack. Null otherwise (the caller answers 404, never confirming it exists).
+ */
+export async function findVisibleSession(member: Member, sessionId: string): Promise<VisibleSession | null> {
+	const [row] = await db
+		.select({
+			id: chargeSessions.id,
+			workshopId: chargeSessions.workshopId,
+			packId: chargeSessions.packId,
+			status: chargeSessions.status,
+			series: packs.series,
+			packOwnerId: packs.packOwnerId
+		})
+		.from(chargeSessions)
+		.innerJoin(packs, eq(packs.id, chargeSessions.packId))
+		.where(and(eq(chargeSessions.id, sessionId), eq(chargeSessions.workshopId, member.workshop.id)))
+		.limit(1);
+	if (!row || !canSeePack(member, { workshopId: row.workshopId, packOwnerId: row.packOwnerId })) return null;
+	return { id: row.id, workshopId: row.workshopId, packId: row.packId, status: row.status, series: row.series };
+}
+
+/** Seconds between comment lines that keep proxies and the browser from dropping a quiet stream. */
+export const HEARTBEAT_SECONDS = 25;
+
+/** Every open stream, so that a shutdown can end them instead of waiting out the server's timeout. */
+const openStreams = new Set<() => void>();
+let shutdownHooked = false;
+
+function hookShutdown() {
+	if (shutdownHooked) return;
+	shutdownHooked = true;
+	// adapter-node closes the server on these signals and waits for open requests: an event
+	// stream never ends by itself, so end them all (browsers reconnect to another instance).
+	const endAll = () => {
+		for (const end of [...openStreams]) end();
+	};
+	process.once('SIGTERM', endAll);
+	process.once('SIGINT', endAll);
+}
+
+function frame(event: SessionEvent): string {
+	const { sessionId, kind, count, newest } = event;
+	return `event: ${kind}\ndata: ${JSON.stringify({ sessionId, kind, count, newest })}\n\n`;
+}
+
+/**
+ * A `text/event-stream` response with the session's events (`reading`, `status`, `step`, `watch`,
+ * `plan`) as they are committed, a heartbeat comment every 25 s, ended when the client goes away.
+ */
+export async function sessionEventStream(sessionId: string, signal: AbortSignal): Promise<Response> {
+	try {
+		await ensureListening();
+	} catch (e) {
+		console.error('listening for session events:', e);
+		return new Response(JSON.stringify({ message: 'Live updates are not available right now. Reload the page to try again.' }), {
+			status: 503,
+			headers: { 'content-type': 'application/json', 'retry-after': '10' }
+		});
+	}
+	const encoder = new TextEncoder();
+	let end = () => {};
+	const stream = new ReadableStream<Uint8Array>({
+		async start(controller) {
+			let closed = false;
+			let heartbeat: ReturnType<typeof setInterval> | undefined;
+			let unsubscribe = () => {};
+			const send = (text: string) => {
+				if (closed) return;
+				try {
+					controller.enqueue(encoder.encode(text));
+				} catch {
+					end();
+				}
+			};
+			end = () => {
+				if (closed) return;
+				closed = true;
+				clearInterval(heartbeat);
+				unsubscribe();
+				openStreams.delete(end);
+				signal.removeEventListener('abort', end);
+				try {
+					controller.close();
+				} catch {
+					// already closed by the client
+				}
+			};
+			signal.addEventListener('abort', end);
+			openStreams.add(end);
+			hookShutdown();
+			unsubscribe = await subscribe(sessionId, (event) => send(frame(event)));
+			if (closed) unsubscribe();
+			// Reconnect after 3 s if the stream drops; the first line tells the client it is live.
+			send(`retry: 3000\n: listening\n\n`);
+			heartbeat = setInterval(() => send(`: heartbeat\n\n`), HEARTBEAT_SECONDS * 1000);
+		},
+		cancel() {
+			end();
+		}
+	});
+	return new Response(stream, {
+		headers: {
+			'content-type': 'text/event-stream; charset=utf-8',
+			'cache-control': 'no-store',
+			'x-accel-buffering': 'no'
+		}
+	});
+}

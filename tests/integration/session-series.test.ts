@@ -1,0 +1,258 @@
+/**
+ * Chart data of a session (series.ts) and its live events (live.ts), against the real database.
+ * The downsampled lines are compared with the `downsample` package's own LTTB run here on the raw
+ * readings read back with a plain query, and small cases are worked by hand.
+ */
+import { randomUUID } from 'node:crypto';
+import { asc, eq, sql } from 'drizzle-orm';
+import { LTTB } from 'downsample';
+import { describe, expect, it } from 'vitest';
+import type { Member } from '$lib/server/auth/permissions';
+import { db } from '$lib/server/db';
+import { chargeSessions, packGroups, sessionSteps } from '$lib/server/db/schema';
+import { newId } from '$lib/server/ids';
+import { subscribe, subscriberCount } from '$lib/server/sessions/live';
+import { notifySession, type SessionEvent } from '$lib/server/sessions/notify';
+import { plannedCurrent, type SessionSeries } from '$lib/server/sessions/series';
+import { GET as eventsGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/events/+server';
+import { GET as seriesGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/series/+server';
+import { apiEvent, joinAs, packFixture } from './helpers';
+
+const MINUTE = 60_000;
+
+async function sessionOf(owner: Member, packId: string) {
+	const [session] = await db
+		.insert(chargeSessions)
+		.values({
+			id: newId(),
+			workshopId: owner.workshop.id,
+			packId,
+			name: `Series ${randomUUID().slice(0, 6)}`,
+			kind: 'one-at-a-time',
+			plannedStart: new Date(Date.now() - 24 * 60 * MINUTE),
+			handsOn: { daily: [{ from: '00:00', to: '23:59' }], once: [] },
+			limits: { overVoltsWarning: 4.22, tempWarningC: 45 },
+			status: 'running',
+			startedAt: new Date(Date.now() - 24 * 60 * MINUTE),
+			createdBy: owner.user.id,
+			updatedBy: owner.user.id
+		})
+		.returning();
+	return session;
+}
+
+type Row = { groupId: string | null; takenAt: Date; volts: number | null; tempC?: number | null; amps?: number | null };
+
+/** Many readings in one statement over unnest()ed arrays (as text: postgres.js binds those). */
+async function insertReadings(sessionId: string, packId: string, rows: Row[]) {
+	const text = (values: (number | string | null | undefined)[]) => sql.param(values.map((v) => (v === null || v === undefined ? null : String(v))));
+	await db.execute(sql`
+		insert into readings (session_id, pack_id, group_id, taken_at, volts, temp_c, amps, source, client_id)
+		select ${sessionId}, ${packId}, g, t::timestamptz, v::float8, c::float8, a::float8, 'device', ${randomUUID()} || '-' || ord
+		from unnest(${text(rows.map((r) => r.groupId))}::text[],
+			${text(rows.map((r) => r.takenAt.toISOString()))}::text[],
+			${text(rows.map((r) => r.volts))}::text[],
+			${text(rows.map((r) => r.tempC))}::text[],
+			${text(rows.map((r) => r.amps))}::text[]) with ordinality as x(g, t, v, c, a, ord)`);
+}
+
+async function getSeries(who: Member, sessionId: string, points?: number) {
+	const query = points === undefined ? '' : `?points=${points}`;
+	const path = `/api/w/${who.workshop.slug}/sessions/${sessionId}/series${query}`;
+	return seriesGet(apiEvent(who, path, { workshop: who.workshop.slug, sessionId }));
+}
+
+async function groupsOf(packId: string) {
+	return db.select().from(packGroups).where(eq(packGroups.packId, packId)).orderBy(asc(packGroups.index));
+}
+
+describe('session chart data', () => {
+	it('keeps each line within N points, its ends, and a spike and a dip, as the downsample package’s LTTB does', async () => {
+		const { owner, pack } = await packFixture({ series: 4, parallel: 2 });
+		const groups = await groupsOf(pack.id);
+		const session = await sessionOf(owner, pack.id);
+		const start = Date.now() - 1300 * MINUTE;
+		const rows: Row[] = [];
+		// 4 groups × 1,250 readings a minute apart (5,000 in all); group 2 has a spike up and a dip.
+		for (let i = 0; i < 1250; i++) {
+			groups.forEach((g, k) => {
+				let volts = 3.6 + (0.5 * i) / 1250 + k * 0.004 + 0.002 * Math.sin(i / 7);
+				if (k === 1 && i === 600) volts = 4.6;
+				if (k === 1 && i === 900) volts = 3.0;
+				rows.push({ groupId: g.id, takenAt: new Date(start + i * MINUTE + k * 1000), volts: Math.round(volts * 1000) / 1000, tempC: 25 + k + (i % 10) / 10 });
+			});
+		}
+		await insertReadings(session.id, pack.id, rows);
+
+		const raw = await db.execute(sql`
+			select group_id as "groupId", extract(epoch from taken_at)::float8 * 1000 as t, volts
+			from readings where session_id = ${session.id} order by taken_at`);
+		const rawOf = (groupId: string) =>
+			(raw as unknown as { groupId: string; t: number; volts: number }[]).filter((r) => r.groupId === groupId).map((r) => [r.t, r.volts] as [number, number]);
+
+		for (const points of [600, 50]) {
+			const response = await getSeries(owner, session.id, points);
+			expect(response.status).toBe(200);
+			const body = (await response.json()) as SessionSeries;
+			expect(body.volts.map((l) => l.label)).toEqual(['G1', 'G2', 'G3', 'G4']);
+			for (const [k, line] of body.volts.entries()) {
+				const full = rawOf(groups[k].id);
+				expect(full).toHaveLength(1250);
+				expect(line.points.length).toBeLessThanOrEqual(points);
+				expect(line.points[0]).toEqual(full[0]);
+				expect(line.points.at(-1)).toEqual(full.at(-1));
+				if (points === 600) {
+					// At most two readings of a group per bucket: LTTB sees the raw line.
+					const reference = LTTB(full, points) as [number, number][];
+					expect(line.points).toEqual(reference);
+				}
+			}
+			const g2 = body.volts[1].points.map((p) => p[1]);
+			expect(Math.max(...g2)).toBe(4.6);
+			expect(Math.min(...g2)).toBe(3.0);
+			expect(body.temps.length).toBe(4);
+			for (const line of body.temps) expect(line.points.length).toBeLessThanOrEqual(points);
+			expect(body.spread.length).toBeLessThanOrEqual(points);
+			// The spike makes the largest spread: 4.6 against the other groups' latest (≈ 3.84–3.85 V).
+			expect(Math.max(...body.spread.map((p) => p[1]))).toBeGreaterThan(0.7);
+			expect(body.limits).toEqual({ overVoltsWarning: 4.22, tempWarningC: 45 });
+		}
+	});
+
+	it('gives the spread of the groups’ latest readings and whole-pack readings per cell (worked by hand)', async () => {
+		const { owner, pack } = await packFixture({ series: 4, parallel: 2 });
+		const [g1, g2] = await groupsOf(pack.id);
+		const session = await sessionOf(owner, pack.id);
+		const t0 = Date.now() - 60 * MINUTE;
+		await insertReadings(session.id, pack.id, [
+			{ groupId: g1.id, takenAt: new Date(t0), volts: 3.7 },
+			{ groupId: g2.id, takenAt: new Date(t0 + MINUTE), volts: 3.75 },
+			{ groupId: g1.id, takenAt: new Date(t0 + 2 * MINUTE), volts: 3.8 },
+			{ groupId: null, takenAt: new Date(t0 + 3 * MINUTE), volts: 15.2 },
+			{ groupId: g2.id, takenAt: new Date(t0 + 4 * MINUTE), volts: 3.9 }
+		]);
+		const body = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
+		// Spread = max − min of the latest per group, from the moment two groups have a reading:
+		// t0+1: |3.75 − 3.70| = 0.05; t0+2: 3.80 − 3.75 = 0.05; t0+4: 3.90 − 3.80 = 0.10.
+		expect(body.spread.map(([t, v]) => [t - t0, Math.round(v * 1000) / 1000])).toEqual([
+			[MINUTE, 0.05],
+			[2 * MINUTE, 0.05],
+			[4 * MINUTE, 0.1]
+		]);
+		// 15.2 V over 4 groups in series = 3.8 V per cell.
+		const packLine = body.volts.find((l) => l.key === 'pack');
+		expect(packLine?.label).toBe('Whole pack (per cell)');
+		expect(packLine?.points).toEqual([[t0 + 3 * MINUTE, 3.8]]);
+		expect(body.step).toBeNull();
+	});
+
+	it('draws the running step’s planned current next to the logged one', async () => {
+		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });
+		const [g1] = await groupsOf(pack.id);
+		const session = await sessionOf(owner, pack.id);
+		const start = Date.now() - 90 * MINUTE;
+		await db.insert(sessionSteps).values({
+			id: newId(),
+			sessionId: session.id,
+			position: 1,
+			groupId: g1.id,
+			channelLabel: 'Channel 1',
+			setVolts: 4.2,
+			amps: 4,
+			expectedStart: new Date(start),
+			expectedEnd: new Date(start + 3 * 60 * MINUTE),
+			ccHours: 1.5,
+			cvHours: 1.5,
+			actualStart: new Date(start),
+			status: 'running'
+		});
+		await insertReadings(session.id, pack.id, [
+			{ groupId: g1.id, takenAt: new Date(start + 30 * MINUTE), volts: 3.9, amps: 4 },
+			{ groupId: g1.id, takenAt: new Date(start + 60 * MINUTE), volts: 4.05, amps: 4 },
+			{ groupId: g1.id, takenAt: new Date(start + 89 * MINUTE), volts: 4.2, amps: 3.1 }
+		]);
+		const body = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
+		expect(body.step?.actualAmps.map((p) => p[1])).toEqual([4, 4, 3.1]);
+		// Built-in NMC ends at 0.05C: 0.05 × 4 Ah × 2 in parallel = 0.4 A, reached at the end of CV.
+		const predicted = body.step!.predictedAmps;
+		expect(predicted[0]).toEqual([start, 4]);
+		expect(predicted.at(-1)![0]).toBe(start + 3 * 60 * MINUTE);
+		expect(predicted.at(-1)![1]).toBeCloseTo(0.4, 3);
+		expect(body.step?.predictedBasis).toContain('0.4 A');
+		expect(body.step?.reestimate?.remainingHours).toBeGreaterThan(0);
+	});
+
+	it('plannedCurrent: the exponential taper is at I/√(I/Iterm) halfway through CV (worked by hand)', () => {
+		// I = 2 A, Iterm = 0.2 A: halfway, 2 × 10^(−1/2) = 0.6325 A; at the end 0.2 A.
+		const points = plannedCurrent(0, { amps: 2, preHours: 0, ccHours: 1, cvHours: 2 }, 0.2, 2);
+		expect(points).toEqual([
+			[0, 2],
+			[3_600_000, 2],
+			[7_200_000, 0.6325],
+			[10_800_000, 0.2]
+		]);
+	});
+
+	it('answers 404 to a viewer who does not own the pack and 400 to a bad points value', async () => {
+		const { owner, pack } = await packFixture({ series: 2, parallel: 1 });
+		const session = await sessionOf(owner, pack.id);
+		const viewer = await joinAs(owner, 'viewer');
+		await expect(getSeries(viewer, session.id)).rejects.toMatchObject({ status: 404 });
+		const events = apiEvent(viewer, `/api/w/${owner.workshop.slug}/sessions/${session.id}/events`, { workshop: owner.workshop.slug, sessionId: session.id });
+		await expect(eventsGet(events as never)).rejects.toMatchObject({ status: 404 });
+		for (const bad of ['5000', '3', 'abc', '1.5']) {
+			const path = `/api/w/${owner.workshop.slug}/sessions/${session.id}/series?points=${bad}`;
+			const response = await seriesGet(apiEvent(owner, path, { workshop: owner.workshop.slug, sessionId: session.id }));
+			expect(response.status).toBe(400);
+		}
+	});
+});
+
+describe('session events', () => {
+	it('fans a committed NOTIFY out to the session’s subscribers only, never a rolled-back one', async () => {
+		const a = newId();
+		const b = newId();
+		const heard: SessionEvent[] = [];
+		const stop = await subscribe(a, (e) => heard.push(e));
+		const other: SessionEvent[] = [];
+		const stopOther = await subscribe(b, (e) => other.push(e));
+		await db
+			.transaction(async (tx) => {
+				await notifySession(tx, { sessionId: a, workshopId: 'w', kind: 'reading', count: 9 });
+				throw new Error('roll back');
+			})
+			.catch(() => {});
+		await db.transaction((tx) => notifySession(tx, { sessionId: a, workshopId: 'w', kind: 'reading', count: 2, newest: '2026-01-01T00:00:00.000Z' }));
+		await expect.poll(() => heard.length).toBe(1);
+		expect(heard[0]).toMatchObject({ sessionId: a, kind: 'reading', count: 2 });
+		expect(other).toEqual([]);
+		stop();
+		stopOther();
+		expect(subscriberCount(a)).toBe(0);
+	});
+
+	it('streams events as text/event-stream and unsubscribes when the client goes away', async () => {
+		const { owner, pack } = await packFixture({ series: 2, parallel: 1 });
+		const session = await sessionOf(owner, pack.id);
+		const abort = new AbortController();
+		const event = apiEvent<Parameters<typeof eventsGet>[0]>(owner, `/api/w/${owner.workshop.slug}/sessions/${session.id}/events`, {
+			workshop: owner.workshop.slug,
+			sessionId: session.id
+		});
+		Object.defineProperty(event, 'request', { value: new Request(event.url, { signal: abort.signal }) });
+		const response = await eventsGet(event);
+		expect(response.headers.get('content-type')).toContain('text/event-stream');
+		expect(response.headers.get('cache-control')).toBe('no-store');
+		expect(response.headers.get('x-accel-buffering')).toBe('no');
+		const reader = response.body!.pipeThrough(new TextDecoderStream()).getReader();
+		let text = '';
+		while (!text.includes(': listening')) text += (await reader.read()).value;
+		await db.transaction((tx) => notifySession(tx, { sessionId: session.id, workshopId: owner.workshop.id, kind: 'step' }));
+		while (!text.includes('event: step')) text += (await reader.read()).value;
+		const frame = text.slice(text.indexOf('event: step')).split('\n\n')[0];
+		expect(JSON.parse(frame.split('\ndata: ')[1])).toMatchObject({ sessionId: session.id, kind: 'step' });
+		expect(subscriberCount(session.id)).toBe(1);
+		abort.abort();
+		await expect.poll(() => subscriberCount(session.id)).toBe(0);
+	});
+});
