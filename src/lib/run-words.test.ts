@@ -1,11 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import {
 	dueText,
+	formatClock,
 	formatHours,
 	formatMilliVolts,
 	formatSetAmps,
 	formatTemp,
 	formatVolts,
+	parseTyped,
 	stepInstruction,
 	waitingText
 } from './run-words';
@@ -80,5 +82,24 @@ describe('waiting and due', () => {
 		expect(dueText(new Date('2026-03-01T10:12:00Z'), now)).toBe('due in 12\u2009min');
 		expect(dueText(new Date('2026-03-01T10:00:20Z'), now)).toBe('due now');
 		expect(dueText(new Date('2026-03-01T09:40:00Z'), now)).toBe('overdue by 20\u2009min');
+	});
+});
+
+describe('clock and typed numbers', () => {
+	it('shows the time in the workshop’s zone, with the weekday on another day', () => {
+		const now = new Date('2026-03-01T10:00:00Z');
+		// Berlin is UTC+1 in March before the change (last Sunday, 29 March 2026).
+		expect(formatClock(new Date('2026-03-01T10:20:00Z'), now, 'Europe/Berlin')).toBe('11:20');
+		// 2026-03-02 was a Monday; 01:30 UTC is 02:30 in Berlin.
+		expect(formatClock(new Date('2026-03-02T01:30:00Z'), now, 'Europe/Berlin')).toBe('Mon 02:30');
+	});
+
+	it('reads a decimal comma and refuses what is not a number', () => {
+		expect(parseTyped('4,182')).toBe(4.182);
+		expect(parseTyped(' 4.2 ')).toBe(4.2);
+		expect(parseTyped('')).toBeUndefined();
+		expect(parseTyped('4.1.2')).toBeNull();
+		expect(parseTyped('12V')).toBeNull();
+		expect(parseTyped('-3')).toBe(-3);
 	});
 });

@@ -4,6 +4,9 @@
  * inside: times are passed in.
  */
 
+/** What the run page's load depends on: invalidated when the session's events say something changed. */
+export const RUN_DEPENDENCY = 'cellsitter:session-run';
+
 /** look.md's states: within limits, near a limit (or a reading due), a limit crossed, not charging / no data. */
 export type RunState = 'steady' | 'watch' | 'act-now' | 'idle';
 
@@ -123,4 +126,42 @@ export function dueText(dueAt: Date, now: Date): string {
 	if (minutes >= 1) return `due in ${formatHours(minutes / 60)}`;
 	if (minutes > -1) return 'due now';
 	return `overdue by ${formatHours(-minutes / 60)}`;
+}
+
+/**
+ * A time on the bench's clock in the workshop's zone: "11:20", or "Tue 02:30" when it falls on
+ * another day than `now` there.
+ */
+export function formatClock(at: Date | string, now: Date, timeZone: string): string {
+	const when = new Date(at);
+	const day = (d: Date) => new Intl.DateTimeFormat('en-GB', { dateStyle: 'short', timeZone }).format(d);
+	const time = new Intl.DateTimeFormat('en-GB', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone }).format(when);
+	if (day(when) === day(now)) return time;
+	return `${new Intl.DateTimeFormat('en-GB', { weekday: 'short', timeZone }).format(when)} ${time}`;
+}
+
+/** A number typed on a phone: a decimal comma is read as a point; blank is no value. */
+export function parseTyped(text: string): number | undefined | null {
+	const t = text.trim().replace(',', '.');
+	if (t === '') return undefined;
+	const n = Number(t);
+	return Number.isFinite(n) && /^[-+]?(\d+\.?\d*|\.\d+)$/.test(t) ? n : null;
+}
+
+/** What a running step is doing: "Group 2 on the charger: 4.20 V, 3 A". */
+export function stepNowText(step: InstructionStep): string {
+	const who = capitalise(groupName(step.groupIndex));
+	const settings = [step.setVolts !== null ? formatSetVolts(step.setVolts) : null, step.amps ? formatSetAmps(step.amps) : null]
+		.filter(Boolean)
+		.join(', ');
+	switch (step.role) {
+		case 'bleed':
+			return `${who} on the bleed load`;
+		case 'rest':
+			return `${who} resting`;
+		case 'balance':
+			return 'The BMS balancing the groups';
+		default:
+			return `${who} on the charger${settings ? `: ${settings}` : ''}`;
+	}
 }

@@ -17,7 +17,7 @@ import {
 	type Limits
 } from '$lib/engine';
 import { perCellVolts } from '$lib/readings-math';
-import { stepInstruction, type RunState } from '$lib/run-words';
+import { stepInstruction, stepNowText, type RunState } from '$lib/run-words';
 import { db } from '../db';
 
 const MS_PER_HOUR = 3_600_000;
@@ -76,7 +76,10 @@ export type RunStep = {
 	role: string;
 	channelLabel: string;
 	status: RunStepInput['status'];
+	/** What to do to start it ("Move the leads to group 5, set 4.20 V and 10 A"). */
 	instruction: string;
+	/** What it does while it runs ("Group 5 on the charger: 4.20 V, 10 A"). */
+	nowText: string;
 	expectedStart: string;
 	expectedEnd: string;
 	actualStart: string | null;
@@ -161,6 +164,7 @@ export function buildRunView(input: RunInput): RunView {
 	const toRunStep = (s: RunStepInput): RunStep => {
 		const earlier = ordered.filter((o) => o.position < s.position && (o.channelId ?? '') === (s.channelId ?? ''));
 		const groupIndex = s.groupId === null ? null : (indexOf.get(s.groupId) ?? null);
+		const words = { groupIndex, role: s.role, setVolts: s.setVolts, amps: s.amps, channelLabel: s.channelLabel };
 		return {
 			id: s.id,
 			position: s.position,
@@ -168,10 +172,8 @@ export function buildRunView(input: RunInput): RunView {
 			role: s.role,
 			channelLabel: s.channelLabel,
 			status: s.status,
-			instruction: stepInstruction(
-				{ groupIndex, role: s.role, setVolts: s.setVolts, amps: s.amps, channelLabel: s.channelLabel },
-				{ move: earlier.some((o) => o.groupId !== null), showChannel: channels.size > 1 }
-			),
+			instruction: stepInstruction(words, { move: earlier.some((o) => o.groupId !== null), showChannel: channels.size > 1 }),
+			nowText: stepNowText(words),
 			expectedStart: s.expectedStart.toISOString(),
 			expectedEnd: s.expectedEnd.toISOString(),
 			actualStart: iso(s.actualStart)
@@ -364,7 +366,8 @@ export function buildRunView(input: RunInput): RunView {
 	if (session.status !== 'stopped') {
 		const seen = new Set<string>();
 		for (const s of [...ordered].reverse()) {
-			if (s.status !== 'done' || !s.restReadingDueAt) continue;
+			// A step skipped while it ran (or ended by a stop) asks for its rest reading too.
+			if ((s.status !== 'done' && s.status !== 'skipped') || !s.restReadingDueAt) continue;
 			const key = s.groupId ?? '';
 			if (seen.has(key)) continue;
 			seen.add(key);
@@ -415,10 +418,6 @@ type ReadingRow = {
  * re-estimate. A 100,000-reading session reads a few hundred rows.
  */
 export async function loadRunReadings(sessionId: string, runningStepIds: string[]): Promise<RunReading[]> {
-	const stepIds = sql`array[${sql.join(
-		runningStepIds.length ? runningStepIds.map((id) => sql`${id}`) : [sql`null`],
-		sql`, `
-	)}]::text[]`;
 	const rows = (await db.execute(sql`
 		select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c
 		from (
@@ -434,7 +433,7 @@ export async function loadRunReadings(sessionId: string, runningStepIds: string[
 			or (x.volts is not null and x.rv <= 2)
 			or (x.temp_c is not null and x.rt <= 2)
 			or (x.ambient_c is not null and x.ra = 1)
-			or x.step_id = any(${stepIds})
+			or x.step_id = any(${sql.param(runningStepIds)}::text[])
 	`)) as unknown as ReadingRow[];
 	return rows.map((r) => ({
 		id: Number(r.id),
