@@ -46,7 +46,8 @@ const plannedStartText = z
 /**
  * The instant of a planned start: an ISO instant with offset as it is; a local date-time as the
  * wall time in `timeZone`. A wall time that never happens (clocks go forward) moves on by the
- * gap; one that happens twice (clocks go back) is the first of the two. Null when unreadable.
+ * gap; one that happens twice (clocks go back) is the later of the two, as a hands-on window's
+ * start is read (src/lib/hands-on.ts). Null when unreadable (31 February, 24:00).
  */
 export function plannedStartInstant(value: string, timeZone: string): Date | null {
 	if (ISO_WITH_OFFSET.test(value)) {
@@ -55,12 +56,20 @@ export function plannedStartInstant(value: string, timeZone: string): Date | nul
 	}
 	const m = LOCAL_DATE_TIME.exec(value);
 	if (!m) return null;
-	const [y, mo, d, h, mi, s] = [m[1], m[2], m[3], m[4], m[5], m[7] ?? '0'].map(Number);
-	if (mo < 1 || mo > 12 || d < 1 || d > 31 || h > 23 || mi > 59 || s > 59) return null;
-	const t = new TZDate(y, mo - 1, d, h, mi, s, timeZone);
-	// TZDate rolls an impossible day (31 February) over to the next month: refuse that instead.
-	if (t.getDate() !== d || t.getMonth() !== mo - 1) return null;
-	const ms = t.getTime();
+	const [y, mo, d, h, mi, sec] = [m[1], m[2], m[3], m[4], m[5], m[7] ?? '0'].map(Number);
+	if (mo < 1 || mo > 12 || h > 23 || mi > 59 || sec > 59) return null;
+	const asUtc = Date.UTC(y, mo - 1, d, h, mi, sec);
+	if (new Date(asUtc).getUTCDate() !== d) return null; // 31 February
+	// The zone's offsets around that wall time (two near a change), and the instants they give;
+	// the machine's own zone plays no part.
+	const offsets = new Set([-3, 0, 3].map((k) => -new TZDate(asUtc + k * 3_600_000, timeZone).getTimezoneOffset()));
+	const candidates = [...offsets].map((o) => asUtc - o * 60_000);
+	const exact = candidates.filter((t) => {
+		const w = new TZDate(t, timeZone);
+		return w.getFullYear() === y && w.getMonth() === mo - 1 && w.getDate() === d && w.getHours() === h && w.getMinutes() === mi;
+	});
+	// Twice: the later instant. Never: the offset before the change, i.e. on by the gap — also the later.
+	const ms = Math.max(...(exact.length ? exact : candidates));
 	return Number.isFinite(ms) ? new Date(ms) : null;
 }
 
