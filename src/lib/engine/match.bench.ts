@@ -21,6 +21,12 @@ if (process.env.CELLSITTER_BENCH_NOTES) {
 	const r = match40k();
 	if (!r.ok) throw new Error(r.reason);
 	const totalMah = cells40k.reduce((s, c) => s + Math.round(c.capacityAh * 1000), 0);
+	// Process CPU time per call beside the wall time (see plans.bench.ts).
+	const calls = 5;
+	const cpu = process.cpuUsage();
+	const wall = performance.now();
+	for (let i = 0; i < calls; i++) match40k();
+	const used = process.cpuUsage(cpu);
 	appendFileSync(
 		process.env.CELLSITTER_BENCH_NOTES,
 		JSON.stringify({
@@ -31,7 +37,9 @@ if (process.env.CELLSITTER_BENCH_NOTES) {
 			spreadMah: Math.round(r.spreadAh * 1e6) / 1e3,
 			wholeMahBoundMah: totalMah % 400 === 0 ? 0 : 1,
 			engineLowerBoundMah: r.lowerBoundAh * 1000,
-			optimal: r.optimal
+			optimal: r.optimal,
+			cpuMsPerCall: (used.user + used.system) / 1000 / calls,
+			wallMsPerCall: (performance.now() - wall) / calls
 		}) + '\n'
 	);
 }

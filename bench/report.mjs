@@ -1,0 +1,188 @@
+#!/usr/bin/env node
+// Prints the figures of `npm run bench` and writes docs/performance.md from them.
+//
+//   node bench/report.mjs <http results.json> <vitest bench.json> <engine notes.jsonl> <https smoke.json> <docs/performance.md>
+//
+// Targets are compared and reported, never asserted: a missed target is written down with its figure.
+import fs from 'node:fs';
+import os from 'node:os';
+
+const [httpFile, engineFile, notesFile, httpsFile, docFile] = process.argv.slice(2);
+const readJson = (file) => (file && fs.existsSync(file) ? JSON.parse(fs.readFileSync(file, 'utf8')) : undefined);
+const http = readJson(httpFile);
+const engine = readJson(engineFile);
+const https = readJson(httpsFile);
+const notes = Object.fromEntries(
+	(notesFile && fs.existsSync(notesFile) ? fs.readFileSync(notesFile, 'utf8').trim().split('\n').filter(Boolean) : [])
+		.map((line) => JSON.parse(line))
+		.map((n) => [n.kind, n])
+);
+
+const fmt = (x, digits = 1) => (Number.isFinite(x) ? x.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits }) : '—');
+const whole = (x) => (Number.isFinite(x) ? Math.round(x).toLocaleString('en-GB') : '—');
+const verdict = (ok) => (ok === undefined ? 'not measured' : ok ? 'met' : '**missed**');
+
+const benchLines = (engine?.files ?? []).flatMap((f) => f.groups.flatMap((g) => g.benchmarks));
+const benchByName = (start) => benchLines.find((b) => b.name.startsWith(start));
+const replan = benchByName('planChannels: re-plan 400 groups');
+const match40k = benchByName('matchCells: 40,000 cells');
+
+const cpus = os.cpus();
+const machine = [
+	['CPU', `${cpus.length} × ${cpus[0]?.model ?? 'unknown'}${cpus[0]?.speed ? ` (${cpus[0].speed} MHz)` : ''}`],
+	['Memory', `${fmt(os.totalmem() / 2 ** 30)} GiB`],
+	['System', `${os.type()} ${os.release()} (${os.arch()})`],
+	['Node.js', process.version],
+	['PostgreSQL', http?.postgres?.split(',')[0] ?? '—'],
+	['Load average (1 min) at start / end of the HTTP part', http ? `${fmt(http.loadAverageAtStart[0], 2)} / ${fmt(http.loadAverageAtEnd?.[0], 2)}` : '—'],
+	['Date', (http?.startedAt ?? new Date().toISOString()).slice(0, 16).replace('T', ' ') + ' UTC']
+];
+
+const rows = [];
+if (http?.ingest) {
+	const i = http.ingest;
+	rows.push(['Readings ingest, device API vs raw INSERT', `${whole(i.apiRowsPerSecond)} rows/s`, `${whole(i.rawRowsPerSecond)} rows/s`, `${fmt(i.ratio, 2)}`, '≥ 0.5', verdict(i.ratio >= 0.5)]);
+}
+if (http?.latency) {
+	const l = http.latency;
+	// At a fixed rate the comparison holds only if both runs kept that rate; otherwise both queued.
+	const kept = (x) => x.requestsPerSecond >= 0.9 * l.rate;
+	const result = !kept(l.readings) || !kept(l.bare) ? `**missed** (${l.rate}/s not reached)` : verdict(l.ratioP99 <= 3 && l.readings.non2xx === 0);
+	rows.push([`One-reading POST at ${l.rate}/s, p50 / p99`, `${fmt(l.readings.p50)} / ${fmt(l.readings.p99)} ms`, `${fmt(l.bare.p50)} / ${fmt(l.bare.p99)} ms (bare route)`, `p99 ${fmt(l.ratioP99, 2)}×`, 'p99 ≤ 3×', result]);
+}
+if (http?.series) {
+	const s = http.series;
+	rows.push(['Live view chart data, 100,000 vs 1,000 readings (median)', `${fmt(s.large.median)} ms`, `${fmt(s.small.median)} ms`, `${fmt(s.ratio, 2)}×`, '≤ 1.5×', verdict(s.ratio <= 1.5)]);
+}
+if (http?.bundle) {
+	const b = http.bundle;
+	rows.push(['JavaScript of the run screen, gzip (with lazy chunks)', `${fmt(b.withLazy.gzip / 1000)} kB`, `${fmt(b.atLoad.gzip / 1000)} kB at load`, '—', '≤ 120 kB', verdict(b.withLazy.gzip / 1000 <= 120)]);
+}
+if (replan) rows.push(['Re-plan 400 groups on 16 channels, hands-on windows (mean)', `${fmt(replan.mean, 2)} ms`, `min ${fmt(replan.min, 2)}, p75 ${fmt(replan.p75, 2)} ms`, '—', '≤ 4 ms', verdict(replan.mean <= 4)]);
+if (match40k) rows.push(['Match 40,000 cells into 400S100P (mean)', `${whole(match40k.mean)} ms`, `min ${whole(match40k.min)} ms`, '—', '≤ 1 s', verdict(match40k.mean <= 1000)]);
+
+const table = (head, body) => [`| ${head.join(' | ')} |`, `|${head.map(() => '---').join('|')}|`, ...body.map((r) => `| ${r.join(' | ')} |`)].join('\n');
+const missed = rows.filter((r) => r[5].startsWith('**missed**'));
+
+const sections = [];
+sections.push(`# Performance
+
+\`npm run bench\` (scripts/bench.sh) builds the app into a temporary folder, starts a throwaway
+database and the built server on a free port, seeds data through the demo workshop and the app's own
+API, measures, stops what it started and rewrites this page. Each figure stands beside a reference
+measured in the same run on the same machine, because absolute figures move with the machine and
+its load. Nothing here is a test: targets are compared, not asserted, and a missed target is
+written down with its figure.`);
+sections.push(`## Machine of this run\n\n${table(['', ''], machine)}
+
+The client (autocannon, fetch), the server (one Node.js process) and PostgreSQL all share these
+cores. The database is the throwaway test cluster of \`scripts/pg.sh --test\` (fsync off), so
+inserts are not bound by the disk.`);
+sections.push(`## Against the targets\n\n${table(['measure', 'figure', 'reference (same run)', 'ratio', 'target', ''], rows)}${
+	missed.length ? `\n\n**Missed in this run:** ${missed.map((r) => r[0]).join('; ')}. See below for what the figure means.` : '\n\nEvery target was met in this run.'
+}`);
+
+if (http?.ingest) {
+	const i = http.ingest;
+	sections.push(`## Readings ingest
+
+${whole(i.batches * i.batch)} readings per round, in batches of ${i.batch}, ${i.parallel} requests at a time, ${i.rounds} rounds after a warm-up,
+API and raw alternating, all into the \`readings\` table of one running session on the ${http.seed.pack.series}-group
+demo pack:
+
+- **device API**: \`POST /api/w/…/sessions/…/readings\` with \`Authorization: Bearer <device token>\`:
+  JSON parse, zod checks of every row, token lookup, the session's status under a key-share lock,
+  one \`insert … on conflict do nothing\` over \`unnest()\`, the live-view notify. Rounds: ${i.apiRounds.map(whole).join(', ')} rows/s.
+- **raw**: postgres.js multi-row \`insert into readings \${sql(rows)}\` of the same rows (4 connections).
+  Rounds: ${i.rawRounds.map(whole).join(', ')} rows/s.
+
+Ratio ${fmt(i.ratio, 2)} (target ≥ 0.5).`);
+}
+if (http?.latency) {
+	const l = http.latency;
+	const line = (name, x) => `| ${name} | ${whole(x.requests)} | ${fmt(x.requestsPerSecond, 0)} | ${fmt(x.p50)} | ${fmt(x.p90)} | ${fmt(x.p99)} | ${fmt(x.max)} | ${x.non2xx} | ${x.errors + x.timeouts} |`;
+	sections.push(`## One-reading POST latency
+
+autocannon at a fixed ${l.rate} requests/s (\`overallRate\`), ${l.connections} connections, ${l.seconds} s after ${l.warmupSeconds} s of warm-up
+each. Every request carries one new reading (a fresh clientId) with the device token. The bare route
+\`POST /api/bench/bare\` (only with \`CELLSITTER_BENCH=1\`) runs the same hooks and reads the same JSON
+body, with no database and no data.
+
+| route | requests | req/s | p50 ms | p90 ms | p99 ms | max ms | non-2xx | errors |
+|---|---|---|---|---|---|---|---|---|
+${line('readings (device token)', l.readings)}
+${line('bare route', l.bare)}
+
+p99 ratio ${fmt(l.ratioP99, 2)}× (target ≤ 3×); p50 ratio ${fmt(l.ratioP50, 2)}×.${
+		l.readings.requestsPerSecond < 0.9 * l.rate || l.bare.requestsPerSecond < 0.9 * l.rate
+			? ` The server did not keep up with ${l.rate} requests/s in this run (see req/s): requests queued, so the latencies above are queueing time and the ratio says little.`
+			: ''
+	}`);
+}
+if (http?.series) {
+	const s = http.series;
+	sections.push(`## Live view chart data
+
+\`GET /api/w/…/sessions/…/series\` (default points per line) as the owner, ${s.runs} times each after ${s.warmup} warm-ups,
+alternating between a session with 100,000 readings and one with 1,000 (one a minute per group, on the
+${http.seed.groups} groups of the demo pack).
+
+| session | median ms | p90 ms | min ms | answer bytes | voltage lines |
+|---|---|---|---|---|---|
+| 100,000 readings | ${fmt(s.large.median)} | ${fmt(s.large.p90)} | ${fmt(s.large.min)} | ${whole(s.large.bytes)} | ${s.large.lines ?? '—'} |
+| 1,000 readings | ${fmt(s.small.median)} | ${fmt(s.small.p90)} | ${fmt(s.small.min)} | ${whole(s.small.bytes)} | ${s.small.lines ?? '—'} |
+
+Ratio of medians ${fmt(s.ratio, 2)}× (target ≤ 1.5×).`);
+}
+if (http?.bundle) {
+	const b = http.bundle;
+	sections.push(`## JavaScript shipped to the run screen
+
+Route \`${b.route}\` (layouts and page: nodes ${b.nodes.join(', ')}). From the build's server manifest and
+Vite's client manifest: the client entry and every static import of those nodes (**at load**), plus
+what they import dynamically (**with lazy chunks**); each file gzipped with zlib at level 9.
+
+- at load: ${b.atLoad.files} files, ${fmt(b.atLoad.raw / 1000)} kB raw, **${fmt(b.atLoad.gzip / 1000)} kB gzip**
+- with lazy chunks: ${b.withLazy.files} files, ${fmt(b.withLazy.raw / 1000)} kB raw, **${fmt(b.withLazy.gzip / 1000)} kB gzip** (target ≤ 120 kB)
+
+Largest files (gzip): ${b.largest.map((f) => `\`${f.file}\` ${fmt(f.gzip / 1000)} kB${f.lazy ? ' (lazy)' : ''}`).join(', ')}.`);
+}
+if (benchLines.length) {
+	const engineRows = benchLines.map((b) => [b.name, fmt(b.min, 2), fmt(b.p75, 2), fmt(b.mean, 2), fmt(b.p99, 2), String(b.sampleCount)]);
+	const gaps = [];
+	if (notes.replan) {
+		const n = notes.replan;
+		gaps.push(`- Re-plan: the plan ends after ${fmt(n.totalHours)} h; the channels' lower bound (longest step, or all step hours ÷ ${n.channels} channels, whichever is more; it ignores when people are there) is ${fmt(n.lowerBoundHours)} h: a gap of ${fmt(n.totalHours - n.lowerBoundHours)} h (${fmt((n.totalHours / n.lowerBoundHours - 1) * 100)} %), most of it waiting for the hands-on hours to swap leads. Process CPU time ${fmt(n.cpuMsPerCall, 2)} ms per re-plan (wall ${fmt(n.wallMsPerCall, 2)} ms, ${n.calls ?? 50} calls in a row).`);
+	}
+	if (notes.match40k) {
+		const n = notes.match40k;
+		gaps.push(`- Matching 40,000 cells: spread between groups ${fmt(n.spreadMah, 0)} mAh; lower bound ${fmt(n.wholeMahBoundMah, 0)} mAh (capacities in whole mAh, every cell used, and the total not divisible by ${n.series}: no assignment does better); gap **${fmt(n.spreadMah - n.wholeMahBoundMah, 0)} mAh**. The engine's own bound is ${fmt(n.engineLowerBoundMah, 0)} mAh (it proves optimality only for small sets). Process CPU time ${whole(n.cpuMsPerCall)} ms per matching (wall ${whole(n.wallMsPerCall)} ms).`);
+	}
+	sections.push(`## Engine
+
+vitest bench (\`src/lib/engine/*.bench.ts\`), wall time per call in ms:
+
+${table(['benchmark', 'min', 'p75', 'mean', 'p99', 'samples'], engineRows)}
+
+${gaps.join('\n')}`);
+}
+if (https) {
+	sections.push(`## HTTPS check
+
+The same build served through \`scripts/https.js\` (docs/deploy.md) on 127.0.0.1, \`/\` fetched with the
+generated authority as the only trusted certificate: HTTP ${https.status}${https.ok ? ' (trusted, answered)' : ` — ${https.error ?? 'failed'}`}.`);
+}
+sections.push(`## Reading these figures
+
+- One run on a shared machine: a ratio is meaningful within the run; an absolute figure mostly
+  says how busy the machine was. A load average above the number of cores means other programs
+  took CPU time during the run.
+- The engine targets are set so that a phone about four times slower than this machine still
+  re-plans within one 16 ms frame.
+- Run it again with \`npm run bench\`; it rewrites this page.`);
+
+const doc = sections.join('\n\n') + '\n';
+if (docFile) fs.writeFileSync(docFile, doc);
+console.log('\n' + table(['measure', 'figure', 'reference (same run)', 'ratio', 'target', ''], rows));
+for (const line of sections.find((s) => s.startsWith('## Engine'))?.split('\n').filter((l) => l.startsWith('- ')) ?? []) console.log(line);
+if (missed.length) console.log(`\nMissed in this run: ${missed.map((r) => r[0]).join('; ')}`);

@@ -1,0 +1,45 @@
+#!/usr/bin/env node
+// `npm run bench`, the part against the built server (scripts/bench.sh starts it and the database):
+// seeds the data, measures ingest, latency and the live view's chart data, sizes the run screen's
+// JavaScript, and writes everything as JSON for bench/report.mjs.
+//
+// Environment (set by scripts/bench.sh): BENCH_BASE_URL, BENCH_DATABASE_URL, BENCH_BUILD_DIR,
+// BENCH_VITE_MANIFEST, BENCH_OUT (the JSON written).
+import fs from 'node:fs';
+import os from 'node:os';
+import postgres from 'postgres';
+import { runScreenJs } from './bundle.mjs';
+import { ingest, latency, series } from './measure.mjs';
+import { seed } from './seed.mjs';
+
+const need = (name) => {
+	const value = process.env[name];
+	if (!value) throw new Error(`${name} is not set: run this through scripts/bench.sh (npm run bench).`);
+	return value;
+};
+const baseUrl = need('BENCH_BASE_URL');
+const out = need('BENCH_OUT');
+const sql = postgres(need('BENCH_DATABASE_URL'), { max: 4, onnotice: () => {} });
+
+const log = (text) => console.log(`bench: ${text}`);
+const results = { startedAt: new Date().toISOString(), loadAverageAtStart: os.loadavg() };
+try {
+	const [{ version }] = await sql`select version()`;
+	results.postgres = version;
+	log('seeding (demo workshop, three sessions, 101,000 readings, a device token)...');
+	const seeded = await seed(sql, baseUrl);
+	results.seed = { slug: seeded.slug, pack: seeded.pack, groups: seeded.groups.length };
+
+	log('JavaScript of the run screen...');
+	results.bundle = await runScreenJs(need('BENCH_BUILD_DIR'), need('BENCH_VITE_MANIFEST'));
+	log('ingest: device API beside a raw multi-row INSERT...');
+	results.ingest = await ingest(sql, baseUrl, seeded);
+	log('latency: one-reading POST at a fixed rate beside the bare route...');
+	results.latency = await latency(baseUrl, seeded);
+	log('live view: series of 100,000 beside 1,000 readings...');
+	results.series = await series(baseUrl, seeded);
+	results.loadAverageAtEnd = os.loadavg();
+	fs.writeFileSync(out, JSON.stringify(results, null, '\t') + '\n');
+} finally {
+	await sql.end({ timeout: 5 });
+}
