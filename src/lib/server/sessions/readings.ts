@@ -80,15 +80,25 @@ export function packProblems(inputs: ReadingInput[], series: number): RowProblem
 	return problems;
 }
 
-type SessionHead = { id: string; workshopId: string; packId: string; status: ChargeSession['status']; series: number };
+export type ReadingSessionHead = {
+	id: string;
+	name: string;
+	workshopId: string;
+	packId: string;
+	packName: string;
+	status: ChargeSession['status'];
+	series: number;
+};
 
-/** The session of the member's workshop with its pack's series, when the member may see it. */
-async function sessionForMember(member: Member, sessionId: string): Promise<SessionHead | null> {
+/** The session of the member's workshop with its pack's name and series, when the member may see it. */
+export async function sessionForMember(member: Member, sessionId: string): Promise<ReadingSessionHead | null> {
 	const [row] = await db
 		.select({
 			id: chargeSessions.id,
+			name: chargeSessions.name,
 			workshopId: chargeSessions.workshopId,
 			packId: chargeSessions.packId,
+			packName: packs.name,
 			status: chargeSessions.status,
 			series: packs.series,
 			packOwnerId: packs.packOwnerId

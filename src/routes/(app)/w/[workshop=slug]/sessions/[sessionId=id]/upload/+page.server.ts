@@ -1,32 +1,17 @@
 import { error, fail } from '@sveltejs/kit';
-import { and, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { loggerMappingSchema } from '$lib/logger-csv';
 import { requireMemberWith, type Member } from '$lib/server/auth/permissions';
-import { db } from '$lib/server/db';
-import { chargeSessions, packs } from '$lib/server/db/schema';
 import { readForm } from '$lib/server/form-input';
 import { guardActions } from '$lib/server/input-problems';
 import { getLoggerMapping, importLoggerCsv, saveLoggerMapping } from '$lib/server/sessions/logger';
-import { canSeePack } from '$lib/server/packs';
+import { sessionForMember } from '$lib/server/sessions/readings';
 import type { Actions, PageServerLoad } from './$types';
 
 async function sessionHead(member: Member, sessionId: string) {
-	const [row] = await db
-		.select({
-			id: chargeSessions.id,
-			name: chargeSessions.name,
-			status: chargeSessions.status,
-			packName: packs.name,
-			series: packs.series,
-			workshopId: packs.workshopId,
-			packOwnerId: packs.packOwnerId
-		})
-		.from(chargeSessions)
-		.innerJoin(packs, eq(packs.id, chargeSessions.packId))
-		.where(and(eq(chargeSessions.id, sessionId), eq(chargeSessions.workshopId, member.workshop.id)));
-	if (!row || !canSeePack(member, row)) error(404, 'Not found');
-	return row;
+	const head = await sessionForMember(member, sessionId);
+	if (!head) error(404, 'Not found');
+	return head;
 }
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
