@@ -77,7 +77,13 @@ sections.push(`## Machine of this run\n\n${table(['', ''], machine)}
 
 The client (autocannon, fetch), the server (one Node.js process) and PostgreSQL all share these
 cores. The database is the throwaway test cluster of \`scripts/pg.sh --test\` (fsync off), so
-inserts are not bound by the disk.`);
+inserts are not bound by the disk.${
+	http && Math.max(http.loadAverageAtStart[0], http.loadAverageAtEnd?.[0] ?? 0) > cpus.length
+		? `
+
+**This run shared the machine:** the load average (${fmt(http.loadAverageAtStart[0], 1)} at the start) was above its ${cpus.length} cores, so other programs (builds, type checks, browser tests) held the CPU for much of it. Wall times and request rates are inflated by that; the ratios, measured side by side, less so, and the engine's CPU time per call not at all.`
+		: ''
+}`);
 sections.push(`## Against the targets\n\n${table(['measure', 'figure', 'reference (same run)', 'ratio', 'target', ''], rows)}${
 	missed.length ? `\n\n**Missed in this run:** ${missed.map((r) => r[0]).join('; ')}. See below for what the figure means.` : '\n\nEvery target was met in this run.'
 }`);
