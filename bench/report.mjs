@@ -35,6 +35,7 @@ const machine = [
 	['Node.js', process.version],
 	['PostgreSQL', http?.postgres?.split(',')[0] ?? '—'],
 	['Load average (1 min) at start / end of the HTTP part', http ? `${fmt(http.loadAverageAtStart[0], 2)} / ${fmt(http.loadAverageAtEnd?.[0], 2)}` : '—'],
+	['Code measured', http?.source || '—'],
 	['Date', (http?.startedAt ?? new Date().toISOString()).slice(0, 16).replace('T', ' ') + ' UTC']
 ];
 

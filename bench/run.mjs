@@ -22,7 +22,7 @@ const out = need('BENCH_OUT');
 const sql = postgres(need('BENCH_DATABASE_URL'), { max: 4, onnotice: () => {} });
 
 const log = (text) => console.log(`bench: ${text}`);
-const results = { startedAt: new Date().toISOString(), loadAverageAtStart: os.loadavg() };
+const results = { startedAt: new Date().toISOString(), source: process.env.BENCH_SOURCE ?? '', loadAverageAtStart: os.loadavg() };
 try {
 	const [{ version }] = await sql`select version()`;
 	results.postgres = version;

@@ -12,6 +12,7 @@ source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$PROJECT_DIR"
 
 WORK=
+BENCH_SOURCE=
 SERVER_PID=
 HTTPS_PID=
 PG_STARTED=
@@ -58,6 +59,13 @@ sql_admin() {
 copy_source() {
 	heading "source (${CELLSITTER_BENCH_REF:-working tree})"
 	mkdir -p "$WORK/src"
+	if [ -n "${CELLSITTER_BENCH_REF:-}" ]; then
+		BENCH_SOURCE="commit $(git rev-parse --short "$CELLSITTER_BENCH_REF")"
+	elif [ -n "$(git status --porcelain 2>/dev/null)" ]; then
+		BENCH_SOURCE="working tree at commit $(git rev-parse --short HEAD), with uncommitted changes"
+	else
+		BENCH_SOURCE="commit $(git rev-parse --short HEAD)"
+	fi
 	if [ -n "${CELLSITTER_BENCH_REF:-}" ]; then
 		git archive "$CELLSITTER_BENCH_REF" | tar -x -C "$WORK/src"
 	else
@@ -163,7 +171,7 @@ main() {
 	start_server
 	heading "HTTP and database (bench/run.mjs)"
 	BENCH_BASE_URL="$BASE_URL" BENCH_DATABASE_URL="$BENCH_DATABASE_URL" BENCH_BUILD_DIR="$WORK/build" \
-		BENCH_VITE_MANIFEST="$WORK/vite-manifest.json" BENCH_OUT="$WORK/http.json" node bench/run.mjs </dev/null
+		BENCH_VITE_MANIFEST="$WORK/vite-manifest.json" BENCH_OUT="$WORK/http.json" BENCH_SOURCE="$BENCH_SOURCE" node bench/run.mjs </dev/null
 	stop_pid "$SERVER_PID" "bench server" 15
 	SERVER_PID=
 	https_check
