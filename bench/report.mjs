@@ -68,7 +68,8 @@ const missed = rows.filter((r) => r[5].startsWith('**missed**'));
 const sections = [];
 sections.push(`# Performance
 
-\`npm run bench\` (scripts/bench.sh) builds the app into a temporary folder, starts a throwaway
+\`npm run bench\` (scripts/bench.sh) builds a copy of the working tree (\`CELLSITTER_BENCH_REF=<commit>\`:
+that commit) in a temporary folder, starts a throwaway
 database and the built server on a free port, seeds data through the demo workshop and the app's own
 API, measures, stops what it started and rewrites this page. Each figure stands beside a reference
 measured in the same run on the same machine, because absolute figures move with the machine and
