@@ -272,7 +272,7 @@ describe('charge sessions: the core', () => {
 		expect((await auditOf(id)).filter((a) => a.kind === 'session.start')).toHaveLength(1);
 	});
 
-	it('tightens limits freely; loosening one past the default needs the datasheet value named', async () => {
+	it('tightens limits freely; loosening one past the default needs the datasheet value named; foreign equipment is refused', async () => {
 		const p = await newPack();
 		// NMC's over-voltage stop defaults to 4.20 V + 50 mV = 4.25 V per cell (BU-409 tolerance).
 		const loose = await post(builder, planBody(p, { limits: { overVoltsCritical: 4.3 } }));
@@ -281,6 +281,17 @@ describe('charge sessions: the core', () => {
 		expect(body.message).toMatch(/over-voltage stop of 4\.3 V .* default of 4\.25 V/);
 		expect(body.errors[0].path).toBe('limits.overVoltsCritical');
 		expect(await db.select().from(chargeSessions).where(eq(chargeSessions.packId, p.pack.id))).toHaveLength(0);
+
+		// Equipment that is not this workshop's is named, not planned around.
+		for (const [change, path] of [
+			[{ chargerId: 'b'.repeat(24) }, 'chargerId'],
+			[{ channelIds: ['c'.repeat(24)] }, 'channelIds'],
+			[{ kind: 'bulk-top-up', topUpChannelId: 'd'.repeat(24) }, 'topUpChannelId']
+		] as const) {
+			const res = await post(builder, planBody(p, change));
+			expect(res.status).toBe(400);
+			expect(((await res.json()) as { errors: { path: string }[] }).errors[0].path).toBe(path);
+		}
 
 		const tight = await created(builder, planBody(p, { limits: { overVoltsCritical: 4.22, tempWarningC: 40 } }));
 		const confirmed = await created(

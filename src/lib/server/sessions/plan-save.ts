@@ -98,12 +98,27 @@ function engineFields(values: PlanValues) {
 	return fields;
 }
 
+/** A charger or channel that is not the workshop's (or not the chosen charger's), in words. */
+function equipmentProblem(ctx: PlanContext, values: PlanValues): SessionFailure | null {
+	const charger = values.chargerId ? ctx.chargers.find((c) => c.id === values.chargerId) : null;
+	if (values.chargerId && !charger) return invalid('Choose a charger of this workshop.', 'chargerId');
+	if (values.channelIds.length > 0 && (!charger || values.channelIds.some((id) => !charger.channels.some((c) => c.id === id)))) {
+		return invalid('Choose channels of the chosen charger.', 'channelIds');
+	}
+	if (values.topUpChannelId && !ctx.chargers.some((c) => c.channels.some((ch) => ch.id === values.topUpChannelId))) {
+		return invalid('Choose a channel of one of this workshop’s chargers for the top-up.', 'topUpChannelId');
+	}
+	return null;
+}
+
 /** The plan for stored values, with the limits checked: all the server's own computation. */
 function planFor(ctx: PlanContext, values: PlanValues) {
 	const startVolts = { ...ctx.startVolts, ...values.startVolts };
 	for (const id of Object.keys(values.startVolts)) {
 		if (!ctx.pack.groups.some((g) => g.id === id)) return invalid('A start voltage names a group of another pack. Reload the page and try again.', 'startVolts');
 	}
+	const refused = equipmentProblem(ctx, values);
+	if (refused) return refused;
 	const plan = computeSessionPlan(ctx.pack, ctx.chargers, { ...engineFields(values), startVolts }, ctx.timeZone);
 	if (!plan.ok) return invalid(plan.message, undefined, plan.reason);
 	const limits = limitsFor(plan.defaultLimits, values.limitOverrides, values.limitsConfirmation, values.readingIntervalMinutes);
