@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import { describe, expect, it } from 'vitest';
-import { db } from '$lib/server/db';
+import { db, sqlClient } from '$lib/server/db';
+import { SESSION_EVENTS_CHANNEL } from '$lib/server/sessions/notify';
 import { auditEvents, chargeSessions, readings } from '$lib/server/db/schema';
 import { readingInputSchema } from '$lib/schemas/readings';
 import { logReadings } from '$lib/server/sessions/readings';
@@ -155,7 +156,12 @@ describe('logging readings', () => {
 		expect(stopped.status).toBe(409);
 		expect(((await stopped.json()) as Problem).message).toMatch(/stopped/);
 
-		await db.update(chargeSessions).set({ status: 'done', stopReason: '' }).where(eq(chargeSessions.id, session.id));
+		await db.update(chargeSessions).set({ status: 'draft', stopReason: '' }).where(eq(chargeSessions.id, session.id));
+		const draft = await readingsApi.POST(apiEvent<PostEvent>(tech, path, params, { method: 'POST', body: body('t2') }));
+		expect(draft.status).toBe(409);
+		expect(((await draft.json()) as Problem).message).toMatch(/draft/);
+
+		await db.update(chargeSessions).set({ status: 'done' }).where(eq(chargeSessions.id, session.id));
 		const late = await readingsApi.POST(apiEvent<PostEvent>(tech, path, params, { method: 'POST', body: body('t3') }));
 		expect(late.status).toBe(201);
 		expect(await countReadings(session.id)).toBe(2);
@@ -241,6 +247,27 @@ describe('logging readings', () => {
 			apiEvent<PostEvent>(owner, path, params, { method: 'POST', body: { readings: [...batch, { ...batch[0], clientId: 'bulk-x' }] } })
 		);
 		expect(tooMany.status).toBe(400);
+	});
+
+	it('tells live views once the readings are committed (a NOTIFY with the count and the newest time)', async () => {
+		const { owner, session } = await sessionFixture();
+		const heard: { sessionId: string; kind: string; count?: number; newest?: string }[] = [];
+		const listening = await sqlClient().listen(SESSION_EVENTS_CHANNEL, (payload) => heard.push(JSON.parse(payload)));
+		try {
+			const inputs = ['2026-01-05T10:00:00+01:00', '2026-01-05T10:30:00+01:00'].map((takenAt, i) =>
+				readingInputSchema.parse({ clientId: `live-${i}`, groupIndex: 1, takenAt, volts: 3.8 })
+			);
+			await logReadings({ kind: 'member', member: owner }, session.id, inputs, 'hand');
+			await logReadings({ kind: 'member', member: owner }, session.id, inputs, 'hand');
+			for (let i = 0; i < 50 && !heard.some((e) => e.sessionId === session.id); i++) await new Promise((r) => setTimeout(r, 20));
+			// One notice for the stored pair; none for the repeat, which stored nothing.
+			await new Promise((r) => setTimeout(r, 100));
+			expect(heard.filter((e) => e.sessionId === session.id)).toEqual([
+				{ sessionId: session.id, workshopId: owner.workshop.id, kind: 'reading', count: 2, newest: '2026-01-05T09:30:00.000Z' }
+			]);
+		} finally {
+			await listening.unlisten();
+		}
 	});
 
 	it('logReadings takes a member actor directly (the form actions use it)', async () => {

@@ -10,7 +10,7 @@ import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Tx } from '../db';
 import { chargeSessions, deviceTokens, packGroups, packs, readings, users, type ChargeSession } from '../db/schema';
 import { writeAudit } from './audit';
-import { notifySession } from './notify';
+import { notifySession, SESSION_EVENTS_CHANNEL, type SessionEvent } from './notify';
 
 export type ReadingSource = 'hand' | 'file' | 'device';
 
@@ -227,17 +227,18 @@ export async function logReadings(
 					? sql`, t as (update device_tokens set last_used_at = now() where id = ${actor.tokenId}
 						and (last_used_at is null or last_used_at < now() - interval '1 minute') returning 1)`
 					: sql``;
-			await tx.execute(sql`
-				with due as (update charge_sessions set reading_due_at = null
-					where id = ${sessionId} and reading_due_at is not null returning 1)${markToken}
-				select 1`);
-			await notifySession(tx, {
+			// The same notice notifySession sends, in this statement to spare a round trip per post.
+			const notice: SessionEvent = {
 				sessionId,
 				workshopId: head.workshopId,
 				kind: 'reading',
 				count: stored,
 				newest: new Date(newest).toISOString()
-			});
+			};
+			await tx.execute(sql`
+				with due as (update charge_sessions set reading_due_at = null
+					where id = ${sessionId} and reading_due_at is not null returning 1)${markToken}
+				select pg_notify(${SESSION_EVENTS_CHANNEL}, ${JSON.stringify(notice)})`);
 		}
 
 		const seen = new Set<string>();
