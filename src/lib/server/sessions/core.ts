@@ -26,7 +26,7 @@ import { canSeePack } from '../packs';
 import { chemistryOf } from './plan-context';
 
 export { loadPlanContext, readPlanContext, watchRoles, type PlanContext, type StartVoltsSource, type WatchChoice } from './plan-context';
-export { createSession, limitsFor, updateSession, type SavedPlan, type SavePlanResult } from './plan-save';
+export { createSession, limitsFor, savedPlanValues, updateSession, type PlanValues, type SavedPlan, type SavePlanResult } from './plan-save';
 export {
 	finishSession,
 	finishStep,

@@ -18,7 +18,7 @@ import { readPlanContext, watcherProblem, type PlanContext } from './plan-contex
 import { conflict, invalid, notFound, type SessionFailure } from './results';
 
 /** What a session's plan is made from, as stored (the plan form's values, resolved). */
-type PlanValues = {
+export type PlanValues = {
 	name: string;
 	kind: SessionKind;
 	target: SessionTarget;
@@ -263,8 +263,11 @@ export async function createSession(member: Member, input: SessionPlanFields): P
 	});
 }
 
-/** The stored values of a session, to re-plan with a patch on top. */
-function valuesOf(s: ChargeSession): PlanValues {
+/**
+ * The stored plan values of a session (what the plan form shows when editing it; the limits the
+ * planner changed are `limitOverrides`), to re-plan with a patch on top.
+ */
+export function savedPlanValues(s: ChargeSession): PlanValues {
 	const overrides = (s.planSummary as { limitOverrides?: LimitOverrides }).limitOverrides ?? {};
 	return {
 		name: s.name,
@@ -321,7 +324,7 @@ export async function updateSession(member: Member, sessionId: string, patch: Se
 				'wrong-state'
 			);
 		}
-		const before = valuesOf(current);
+		const before = savedPlanValues(current);
 		const { draft, limits, startVolts, plannedStart: _text, ...rest } = patch;
 		const values: PlanValues = {
 			...before,

@@ -209,7 +209,7 @@ export async function stopSession(member: Member, sessionId: string, reason: str
 		if (s.status !== 'running' && s.status !== 'paused') return conflict(wrongState('stop', s.status), 'wrong-state');
 		const now = new Date();
 		const stepsEnded = await endRunningSteps(tx, s.id, now);
-		const session = await setStatus(tx, member, s, 'session.stop', { status: 'stopped', stopReason: why, endedAt: now }, { reason: why, stepsEnded });
+		const session = await setStatus(tx, member, s, 'session.stop', { status: 'stopped', stopReason: why, endedAt: now, readingDueAt: null }, { reason: why, stepsEnded });
 		return { ok: true, session };
 	});
 }
@@ -231,7 +231,7 @@ export async function finishSession(member: Member, sessionId: string): Promise<
 		if (left > 0) {
 			return conflict(`${left === 1 ? 'One step has' : `${left} steps have`} not ended yet: finish or skip ${left === 1 ? 'it' : 'them'} first.`, 'steps-left');
 		}
-		return { ok: true, session: await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date() }) };
+		return { ok: true, session: await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date(), readingDueAt: null }) };
 	});
 }
 
@@ -303,7 +303,7 @@ async function changeStep(
 	await notifySession(tx, { sessionId: s.id, workshopId: s.workshopId, kind: 'step' });
 	let session = s;
 	if (set.status !== 'running' && (await stepsLeft(tx, s.id)) === 0) {
-		session = await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date() }, { lastStepId: step.id });
+		session = await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date(), readingDueAt: null }, { lastStepId: step.id });
 	}
 	return { ok: true, session, step: updated };
 }
