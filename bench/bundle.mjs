@@ -46,9 +46,15 @@ export async function runScreenJs(buildDir, viteManifestFile, routeId = RUN_ROUT
 	};
 	// The client entry (app.js) imports every node dynamically: follow static imports only there.
 	for (const k of roots) visit(k, staticSet, false);
+	// Then what any of those loads on demand (a chart library after first paint), except from the
+	// entries, whose dynamic imports are every other page of the app.
 	const allSet = new Set(staticSet);
-	for (const k of nodeIndexes.map(nodeKey)) {
-		for (const d of byKey.get(k).dynamicImports ?? []) visit(d, allSet, true);
+	for (const k of staticSet) {
+		if (byKey.get(k).isEntry && !/\/nodes\/\d+\.js$/.test(k)) continue;
+		for (const d of byKey.get(k).dynamicImports ?? []) {
+			if (/\/nodes\/\d+\.js$/.test(d)) continue;
+			visit(d, allSet, true);
+		}
 	}
 
 	const sizeOf = (key) => {
