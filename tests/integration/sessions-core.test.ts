@@ -11,7 +11,8 @@ import type { Member } from '$lib/server/auth/permissions';
 import { createCharger } from '$lib/server/chargers';
 import { createCellSpec } from '$lib/server/cell-specs';
 import { db } from '$lib/server/db';
-import { auditEvents, chargeSessions, packs, readings, sessionSteps } from '$lib/server/db/schema';
+import { auditEvents, cells, chargeSessions, packs, readings, sessionSteps } from '$lib/server/db/schema';
+import { newId } from '$lib/server/ids';
 import { inputProblem } from '$lib/server/input-problems';
 import { createPack, listGroups } from '$lib/server/packs';
 import { getSession, listSessions, loadPlanContext, startSession } from '$lib/server/sessions/core';
@@ -339,6 +340,37 @@ describe('charge sessions: the core', () => {
 
 		await startSession(builder, id);
 		expect((await patch({ name: 'Too late' })).status).toBe(409);
+	});
+
+	it('starts each group from its newest reading (a whole-pack reading ÷ S counts), else its cells’ mean arrival volts', async () => {
+		const p = await newPack();
+		const [g1, g2] = p.groups;
+		const cell = (label: string, volts: number, groupId: string) => ({
+			id: newId(),
+			packId: p.pack.id,
+			label: `${label}-${p.pack.id.slice(0, 6)}`,
+			arrivalVolts: volts,
+			placement: 'group' as const,
+			groupId
+		});
+		await db.insert(cells).values([cell('aa', 3.6, g1.id), cell('ab', 3.7, g1.id), cell('ba', 3.8, g2.id), cell('bb', 3.9, g2.id)]);
+		let ctx = await loadPlanContext(builder, p.pack.id);
+		// Means worked by hand: (3.60 + 3.70) / 2 and (3.80 + 3.90) / 2.
+		expect(ctx.startVolts).toEqual({ [g1.id]: 3.65, [g2.id]: 3.85 });
+		expect(ctx.startVoltsSource).toEqual({ [g1.id]: 'cells', [g2.id]: 'cells' });
+
+		const id = await created(builder, planBody(p));
+		const at = (minutes: number) => new Date(Date.UTC(2026, 11, 3, 20, minutes));
+		const reading = (clientId: string, groupId: string | null, volts: number, takenAt: Date) => ({
+			sessionId: id, packId: p.pack.id, groupId, volts, takenAt, source: 'hand' as const, clientId, enteredBy: tech.user.id
+		});
+		await db.insert(readings).values([reading('r1', g1.id, 3.71, at(0)), reading('r2', null, 7.6, at(10)), reading('r3', g2.id, 3.95, at(20))]);
+		ctx = await loadPlanContext(builder, p.pack.id);
+		// Group 1: the pack's 7.60 V at 20:10 is newer than its own 3.71 V at 20:00 → 7.60 / 2 = 3.80.
+		// Group 2: its own 3.95 V at 20:20 is the newest.
+		expect(ctx.startVolts).toEqual({ [g1.id]: 3.8, [g2.id]: 3.95 });
+		expect(ctx.startVoltsSource).toEqual({ [g1.id]: 'last-reading', [g2.id]: 'last-reading' });
+		expect(ctx.members.map((m) => m.role).sort()).toEqual(['builder', 'owner', 'technician', 'technician']);
 	});
 
 	it('keeps the shape of a pack with sessions (409) and never deletes its readings', async () => {
