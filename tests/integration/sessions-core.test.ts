@@ -228,6 +228,17 @@ describe('charge sessions: the core', () => {
 		await startSession(owner, id);
 
 		expect((await step(tech, id, first.id, 'start')).status).toBe(200);
+		// The list: the running session first; its expected end moves with the step's early start.
+		const later = await created(owner, planBody(p, { plannedStart: '2026-12-10T21:00' }));
+		const listed = await listSessions(owner, { packId: p.pack.id });
+		expect(listed.map((l) => [l.id, l.status, l.stepsTotal, l.stepsEnded])).toEqual([
+			[id, 'running', 2, 0],
+			[later, 'planned', 2, 0]
+		]);
+		const [started] = await savedSteps(id);
+		const early = started.actualStart!.getTime() - started.expectedStart.getTime();
+		expect(Math.abs(listed[0].expectedEnd!.getTime() - (listed[0].plannedEnd!.getTime() + early))).toBeLessThan(1000);
+		expect(listed[1].expectedEnd).toEqual(listed[1].plannedEnd);
 		const busy = await step(tech, id, second.id, 'start');
 		expect(busy.status).toBe(409);
 		expect(((await busy.json()) as { message: string }).message).toMatch(/Bench supply 30 V 2 A is still on group 1/);
