@@ -2,7 +2,8 @@ import { and, eq } from 'drizzle-orm';
 import { describe, expect, it } from 'vitest';
 import { db, sqlClient } from '$lib/server/db';
 import { SESSION_EVENTS_CHANNEL } from '$lib/server/sessions/notify';
-import { auditEvents, chargeSessions, readings } from '$lib/server/db/schema';
+import { auditEvents, chargeSessions, readings, sessionSteps } from '$lib/server/db/schema';
+import { newId } from '$lib/server/ids';
 import { readingInputSchema } from '$lib/schemas/readings';
 import { logReadings } from '$lib/server/sessions/readings';
 import * as readingsApi from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/readings/+server';
@@ -268,6 +269,35 @@ describe('logging readings', () => {
 		} finally {
 			await listening.unlisten();
 		}
+	});
+
+	it('attaches a reading to the running step of its group first, else to a running whole-pack step', async () => {
+		const { owner, session, steps } = await sessionFixture({ series: 4 });
+		const [packStep] = await db
+			.insert(sessionSteps)
+			.values({
+				id: newId(),
+				sessionId: session.id,
+				position: 99,
+				groupId: null,
+				role: 'top-up',
+				expectedStart: new Date(Date.now() - 7_200_000),
+				expectedEnd: new Date(Date.now() + 3_600_000),
+				actualStart: new Date(Date.now() - 7_200_000),
+				status: 'running'
+			})
+			.returning();
+		const inputs = [
+			{ clientId: 'own', groupIndex: 1, takenAt: minutesAgo(2), volts: 3.9 },
+			{ clientId: 'other', groupIndex: 3, takenAt: minutesAgo(2), volts: 3.9 },
+			{ clientId: 'pack', groupIndex: null, takenAt: minutesAgo(2), volts: 15.6 },
+			// Before group 1's step began (an hour ago), only the whole-pack step was running.
+			{ clientId: 'early', groupIndex: 1, takenAt: minutesAgo(90), volts: 3.8 }
+		].map((r) => readingInputSchema.parse(r));
+		expect(await logReadings({ kind: 'member', member: owner }, session.id, inputs, 'hand')).toMatchObject({ ok: true, stored: 4 });
+		const rows = await db.select().from(readings).where(eq(readings.sessionId, session.id));
+		const stepOf = Object.fromEntries(rows.map((r) => [r.clientId, r.stepId]));
+		expect(stepOf).toEqual({ own: steps[0].id, other: packStep.id, pack: packStep.id, early: packStep.id });
 	});
 
 	it('logReadings takes a member actor directly (the form actions use it)', async () => {

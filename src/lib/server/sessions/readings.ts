@@ -168,7 +168,7 @@ export async function logReadings(
 		const inserted = (await tx.execute(sql`
 			insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,
 				note, source, entered_by, device_token_id, client_id)
-			select ${sessionId}, ${head.packId}, g.id, st.id, r.taken_at, r.volts, r.amps,
+			select distinct on (r.n) ${sessionId}, ${head.packId}, g.id, coalesce(gs.id, ps.id), r.taken_at, r.volts, r.amps,
 				r.temp_c, r.ambient_c, r.note, ${source}::reading_source, ${enteredBy}, ${tokenId}, r.client_id
 			-- Every column goes as text[] (postgres.js serialises text arrays whatever the element type).
 			from (select u.client_id, nullif(u.group_index, '')::int as group_index, u.taken_at::timestamptz as taken_at,
@@ -185,17 +185,13 @@ export async function logReadings(
 				${sql.param(inputs.map((r) => r.note ?? ''))}::text[]
 			) with ordinality as u(client_id, group_index, taken_at, volts, amps, temp_c, ambient_c, note, n)) r
 			left join pack_groups g on g.pack_id = ${head.packId} and g.index = r.group_index
-			left join lateral (
-				select s.id from session_steps s
-				where s.session_id = ${sessionId}
-					and s.actual_start is not null and s.actual_start <= r.taken_at
-					and (s.actual_end is null or s.actual_end >= r.taken_at)
-					and (s.group_id is null or s.group_id = g.id)
-				-- the group's own step first, else a whole-pack step; the latest started
-				order by (s.group_id is null), s.actual_start desc
-				limit 1
-			) st on true
-			order by r.n
+			-- The step running at the reading's time: the group's own (equality join on the group, cheap
+			-- for 100,000 rows), else a whole-pack step (a session has a handful at most).
+			left join session_steps gs on gs.session_id = ${sessionId} and gs.group_id = g.id
+				and gs.actual_start <= r.taken_at and (gs.actual_end is null or gs.actual_end >= r.taken_at)
+			left join session_steps ps on ps.session_id = ${sessionId} and ps.group_id is null
+				and ps.actual_start <= r.taken_at and (ps.actual_end is null or ps.actual_end >= r.taken_at)
+			order by r.n, gs.actual_start desc nulls last, ps.actual_start desc nulls last
 			on conflict (session_id, client_id) do nothing
 			returning client_id, id, taken_at`)) as unknown as { client_id: string; id: string | number; taken_at: string | Date }[];
 
