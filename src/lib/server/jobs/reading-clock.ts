@@ -85,6 +85,18 @@ export async function runReadingClock(now = new Date()): Promise<{ marked: strin
 	return { marked, cleared };
 }
 
+/**
+ * The clock's marks on a workshop's running sessions: session id → when its reading fell due. For
+ * lists; the caller shows only the sessions the member may see.
+ */
+export async function readingMarks(workshopId: string): Promise<Map<string, Date>> {
+	const rows = await db
+		.select({ id: chargeSessions.id, at: chargeSessions.readingDueAt })
+		.from(chargeSessions)
+		.where(and(eq(chargeSessions.workshopId, workshopId), eq(chargeSessions.status, 'running'), isNotNull(chargeSessions.readingDueAt)));
+	return new Map(rows.map((r) => [r.id, r.at!]));
+}
+
 export const readingClockJob = defineJob<{ now?: string }>({
 	schedule: { cron: '* * * * *' },
 	options: { retryLimit: 1, expireInSeconds: 50 },

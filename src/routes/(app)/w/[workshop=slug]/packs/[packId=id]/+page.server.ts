@@ -4,13 +4,15 @@ import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listAttachments } from '$lib/server/attachments';
 import { listBatch } from '$lib/server/cells';
 import { packView } from '$lib/server/packs';
+import { listSessions } from '$lib/server/sessions/core';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.viewOwn');
-	const [batch, attachments] = await Promise.all([
+	const [batch, attachments, sessions] = await Promise.all([
 		listBatch(member, params.packId),
-		listAttachments(member, params.packId)
+		listAttachments(member, params.packId),
+		listSessions(member, { packId: params.packId })
 	]);
 	const view = await packView(batch.pack, batch.spec);
 	const stats = groupStatistics(view.pack.series, batch.cells, view.spec.capacityAh);
@@ -33,6 +35,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		groupStats: { placed: stats.placed, spreadAh: stats.spreadAh, warnings: stats.warnings },
 		counts,
 		attachments,
+		sessions,
+		canPlan: can(member.role, 'plans.edit'),
 		canAttach: can(member.role, 'attachments.add'),
 		canEdit: can(member.role, 'packs.edit'),
 		canMeasure: can(member.role, 'measurements.edit')
