@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { chemistries } from '$lib/engine';
 import {
 	confirmationNamesValues,
+	formValuesFrom,
 	instantToLocal,
 	localToInstant,
 	mergeLimits,
@@ -144,6 +145,25 @@ describe('toPlanInput', () => {
 		expect(r.ok).toBe(false);
 		if (r.ok) return;
 		expect(Object.keys(r.errors).sort()).toEqual(['amps', 'daily.0', 'once.0', 'start', 'startVolts.g2', 'startVolts.g3', 'swapMinutes']);
+	});
+
+	it('a saved plan fills the edit form with the same wall times, and reads back to the same instants', () => {
+		const first = toPlanInput(
+			values({ start: '2026-01-15T07:00', once: [{ start: '2026-01-15T23:00', end: '2026-01-16T07:00' }], limits: { tempWarningC: '40' } }),
+			'Pacific/Auckland',
+			groupIds
+		);
+		if (!first.ok) throw new Error('the first reading failed');
+		const again = formValuesFrom(
+			{ ...first.input, packId: 'p1', name: 'n', targetVolts: null, amps: null, chargerId: 'c1', topUpChannelId: null, bleedLoad: null, restHours: null, readingIntervalMinutes: 30, limitsConfirmation: '', watchUserId: null },
+			{ tempWarningC: 40 },
+			'Pacific/Auckland'
+		);
+		expect(again.start).toBe('2026-01-15T07:00');
+		expect(again.once).toEqual([{ start: '2026-01-15T23:00', end: '2026-01-16T07:00' }]);
+		expect(again.limits).toEqual({ tempWarningC: '40' });
+		const second = toPlanInput(again, 'Pacific/Auckland', groupIds);
+		expect(second.ok && second.input).toEqual(first.input);
 	});
 
 	it('says when the start time is skipped by the clocks', () => {

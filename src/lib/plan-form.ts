@@ -310,3 +310,55 @@ export function planWhen(date: Date, timeZone: string): string {
 export function planClock(date: Date, timeZone: string): string {
 	return format(toMinute(date), 'HH:mm', { in: tz(timeZone) });
 }
+
+/** A saved session's plan fields (as the database row holds them), to fill the edit form. */
+export type SavedPlanFields = {
+	packId: string;
+	name: string;
+	kind: SessionKind;
+	target: SessionTarget;
+	targetVolts: number | null;
+	amps: number | null;
+	chargerId: string | null;
+	channelIds: string[];
+	topUpChannelId: string | null;
+	bleedLoad: { ohms: number } | { amps: number } | null;
+	restHours: number | null;
+	swapMinutes: number;
+	plannedStart: Date;
+	handsOn: { daily: DailyRow[]; once: { start: string; end: string }[] };
+	readingIntervalMinutes: number;
+	limitsConfirmation: string;
+	startVolts: Record<string, number>;
+	watchUserId: string | null;
+};
+
+const text = (v: number | null | undefined) => (v === null || v === undefined ? '' : String(v));
+
+/** The form's values for a saved plan: instants back to wall-clock text in the workshop's zone. */
+export function formValuesFrom(saved: SavedPlanFields, overrides: Partial<Limits>, timeZone: string): PlanFormValues {
+	const bleed = saved.bleedLoad;
+	return {
+		packId: saved.packId,
+		name: saved.name,
+		kind: saved.kind,
+		target: saved.target,
+		targetVolts: text(saved.targetVolts),
+		amps: text(saved.amps),
+		chargerId: saved.chargerId ?? '',
+		channelIds: [...saved.channelIds],
+		topUpChannelId: saved.topUpChannelId ?? '',
+		bleedBy: bleed && 'amps' in bleed ? 'amps' : 'ohms',
+		bleedValue: bleed ? text('amps' in bleed ? bleed.amps : bleed.ohms) : '',
+		restHours: text(saved.restHours),
+		swapMinutes: String(saved.swapMinutes),
+		start: instantToLocal(saved.plannedStart, timeZone),
+		daily: saved.handsOn.daily.map((w) => ({ from: w.from, to: w.to })),
+		once: saved.handsOn.once.map((w) => ({ start: instantToLocal(new Date(w.start), timeZone), end: instantToLocal(new Date(w.end), timeZone) })),
+		readingIntervalMinutes: String(saved.readingIntervalMinutes),
+		watchUserId: saved.watchUserId ?? '',
+		startVolts: Object.fromEntries(Object.entries(saved.startVolts).map(([k, v]) => [k, String(v)])),
+		limits: Object.fromEntries(Object.entries(overrides).map(([k, v]) => [k, String(v)])) as Partial<Record<LimitKey, string>>,
+		limitsConfirmation: saved.limitsConfirmation
+	};
+}

@@ -67,7 +67,7 @@ test('a builder plans one group at a time with hands-on hours, in the workshop z
 	await page.goto(`/w/${slug}/sessions/new?pack=${packId}`);
 	await expect(page.getByText(`Starts (${WORKSHOP_ZONE})`)).toBeVisible();
 	// The night-watch button works only once the page's script runs.
-	await expect(page.getByRole('button', { name: 'Add a night watch' })).toBeEnabled();
+	await expect(page.getByRole('button', { name: 'Add a night watch' })).toBeEnabled({ timeout: 15_000 });
 	await page.getByLabel('Charger').selectOption({ label: 'One-amp supply' });
 
 	for (const g of [1, 2, 3]) await page.getByLabel(`Group ${g} (V per cell)`).fill('3.60');
@@ -113,5 +113,18 @@ test('a builder plans one group at a time with hands-on hours, in the workshop z
 
 	await page.getByRole('button', { name: 'Save the plan' }).click();
 	await expect(page).toHaveURL(new RegExp(`/w/${slug}/sessions/[a-z2-7]{24}$`));
+	const sessionUrl = page.url();
+
+	// The planned session opens in the same form, with the same wall times; a 20-minute swap moves
+	// the next mornings' steps to 08:20.
+	await page.goto(`${sessionUrl}/plan`);
+	await expect(page.getByRole('button', { name: 'Add a night watch' })).toBeEnabled({ timeout: 15_000 });
+	await expect(page.getByLabel(/^Starts/)).toHaveValue(`${day1}T08:00`);
+	await page.getByLabel('Minutes to swap leads').fill('20');
+	await expect(steps.nth(1).locator('time')).toHaveText(new RegExp(`^\\w{3} ${dayOfMonth(day2)} \\w{3}, 08:20$`));
+	await page.getByRole('button', { name: 'Save the changed plan' }).click();
+	await expect(page).toHaveURL(sessionUrl);
+	await page.goto(`${sessionUrl}/plan`);
+	await expect(page.getByLabel('Minutes to swap leads')).toHaveValue('20');
 	await away.close();
 });

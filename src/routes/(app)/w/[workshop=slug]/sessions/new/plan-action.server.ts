@@ -11,7 +11,9 @@ export type PlanActionFailure = { message: string; field: string | null };
 /** The body as the schema reads it, or the 400 to answer with, in plain words. */
 export async function readPlanBody<S extends z.ZodType>(
 	request: Request,
-	schema: S
+	schema: S,
+	/** Keys the form sends that this schema does not take (an edit cannot move a session to another pack). */
+	drop: string[] = []
 ): Promise<{ ok: true; data: z.output<S> } | { ok: false; failure: ReturnType<typeof fail<PlanActionFailure>> }> {
 	const form = await request.formData();
 	const text = form.get('plan');
@@ -24,7 +26,8 @@ export async function readPlanBody<S extends z.ZodType>(
 	if (body === undefined || body === null || typeof body !== 'object' || Array.isArray(body)) {
 		return { ok: false, failure: fail(400, { message: 'The plan did not arrive whole. Reload the page and try again.', field: null }) };
 	}
-	const parsed = schema.safeParse(body);
+	const kept = Object.fromEntries(Object.entries(body).filter(([k]) => !drop.includes(k)));
+	const parsed = schema.safeParse(kept);
 	if (!parsed.success) {
 		const issue = parsed.error.issues[0];
 		return { ok: false, failure: fail(400, { message: issue.message, field: issue.path.join('.') || null }) };

@@ -1,0 +1,57 @@
+import { error, fail, redirect } from '@sveltejs/kit';
+import { requireMemberWith } from '$lib/server/auth/permissions';
+import { guardActions } from '$lib/server/input-problems';
+import { getSession, loadPlanContext, updateSession } from '$lib/server/sessions/core';
+import { sessionPatchSchema } from '$lib/schemas/sessions';
+import { readPlanBody } from '../../new/plan-action.server';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async ({ locals, params, url }) => {
+	const member = await requireMemberWith(locals, params, url, 'plans.edit');
+	const detail = await getSession(member, params.sessionId);
+	const s = detail.session;
+	const editable = s.status === 'draft' || s.status === 'planned';
+	const context = editable ? await loadPlanContext(member, s.packId) : null;
+	const overrides = (s.planSummary as { limitOverrides?: Record<string, number> }).limitOverrides ?? {};
+	return {
+		sessionId: s.id,
+		status: s.status,
+		packName: detail.pack.name,
+		context,
+		saved: {
+			packId: s.packId,
+			name: s.name,
+			kind: s.kind,
+			target: s.target,
+			targetVolts: s.targetVolts,
+			amps: s.amps,
+			chargerId: s.chargerId,
+			channelIds: s.channelIds,
+			topUpChannelId: s.topUpChannelId,
+			bleedLoad: s.bleedLoad ?? null,
+			restHours: s.restHours,
+			swapMinutes: s.swapMinutes,
+			plannedStart: s.plannedStart,
+			handsOn: s.handsOn,
+			readingIntervalMinutes: s.readingIntervalMinutes,
+			limitsConfirmation: s.limitsConfirmation,
+			startVolts: s.startVolts,
+			watchUserId: s.watchUserId
+		},
+		overrides
+	};
+};
+
+export const actions: Actions = guardActions<Actions>({
+	default: async ({ locals, params, url, request }) => {
+		const member = await requireMemberWith(locals, params, url, 'plans.edit');
+		const body = await readPlanBody(request, sessionPatchSchema, ['packId']);
+		if (!body.ok) return body.failure;
+		const result = await updateSession(member, params.sessionId, body.data);
+		if (!result.ok) {
+			if (result.status === 404) error(404, 'Not found');
+			return fail(result.status, { message: result.message, field: result.field ?? null });
+		}
+		redirect(303, `/w/${member.workshop.slug}/sessions/${params.sessionId}`);
+	}
+});
