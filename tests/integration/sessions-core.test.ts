@@ -274,6 +274,26 @@ describe('charge sessions: the core', () => {
 		expect(audit.map((a) => a.kind).slice(-3)).toEqual(['step.start', 'step.done', 'session.done']);
 	});
 
+	it('answers 401 signed out, 415 for a body that is not JSON, 400 for control characters, and writes nothing', async () => {
+		const p = await newPack();
+		const id = await created(builder, planBody(p));
+		await expect(sessionsApi.GET(apiEvent(null, base(), { workshop: ws }))).rejects.toMatchObject({ status: 401 });
+		await expect(status(null as unknown as Member, id, { action: 'pause' })).rejects.toMatchObject({ status: 401 });
+		const url = `http://127.0.0.1${base()}/${id}/status`;
+		const asText = {
+			...apiEvent<Parameters<typeof statusApi.POST>[0]>(owner, url, { workshop: ws, sessionId: id }),
+			request: new Request(url, { method: 'POST', body: '{"action":"start"}', headers: { 'content-type': 'text/plain' } })
+		};
+		expect((await statusApi.POST(asText)).status).toBe(415);
+		expect((await status(builder, id, { action: 'start' })).status).toBe(200);
+		const nul = await status(tech, id, { action: 'stop', reason: 'hot\u0000' });
+		expect(nul.status).toBe(400);
+		expect((await post(builder, planBody(p, { name: 'Night\u0007' }))).status).toBe(400);
+		const [row] = await db.select().from(chargeSessions).where(eq(chargeSessions.id, id));
+		expect(row.status).toBe('running');
+		expect(await db.select().from(chargeSessions).where(eq(chargeSessions.packId, p.pack.id))).toHaveLength(1);
+	});
+
 	it('starts a session once when two start it at the same moment', async () => {
 		const p = await newPack();
 		const id = await created(builder, planBody(p));
