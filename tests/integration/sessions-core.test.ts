@@ -179,11 +179,17 @@ describe('charge sessions: the core', () => {
 
 		// A viewer who does not own the pack does not learn the session exists; they never change it.
 		await expect(sessionApi.GET(apiEvent(viewer, `${base()}/${id}`, params))).rejects.toMatchObject({ status: 404 });
-		await expect(status(viewer, id, { action: 'pause' })).rejects.toMatchObject({ status: 403 });
+		await expect(status(viewer, id, { action: 'pause' })).rejects.toMatchObject({
+			status: 403,
+			body: { message: 'A viewer cannot run sessions (pause, stop, steps or the watch) in this workshop.' }
+		});
 		expect((await listSessions(viewer)).some((s) => s.id === id)).toBe(false);
 
 		// A technician runs sessions but does not start them; the builder does.
-		await expect(status(tech, id, { action: 'start' })).rejects.toMatchObject({ status: 403 });
+		await expect(status(tech, id, { action: 'start' })).rejects.toMatchObject({
+			status: 403,
+			body: { message: 'A technician cannot plan or start sessions in this workshop.' }
+		});
 		expect((await status(builder, id, { action: 'start' })).status).toBe(200);
 		await expect(status(viewer, id, { action: 'stop', reason: 'smoke' })).rejects.toMatchObject({ status: 403 });
 

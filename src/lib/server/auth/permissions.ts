@@ -12,7 +12,9 @@ const actionWords: Partial<Record<Action, string>> = {
 	'workshop.edit': 'change the workshop',
 	'packs.edit': 'change packs',
 	'chargers.edit': 'change chargers',
-	'plans.edit': 'plan sessions',
+	'plans.edit': 'plan or start sessions',
+	'sessions.run': 'run sessions (pause, stop, steps or the watch)',
+	'readings.log': 'log or edit readings',
 	'specs.edit': 'change cell specs or chemistry profiles',
 	'measurements.edit': 'record cell measurements',
 	'attachments.add': 'add or remove files'
