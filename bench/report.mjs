@@ -48,7 +48,8 @@ if (http?.latency) {
 	const l = http.latency;
 	// At a fixed rate the comparison holds only if both runs kept that rate; otherwise both queued.
 	const kept = (x) => x.requestsPerSecond >= 0.9 * l.rate;
-	const result = !kept(l.readings) || !kept(l.bare) ? `**missed** (${l.rate}/s not reached)` : verdict(l.ratioP99 <= 3 && l.readings.non2xx === 0);
+	const lower = l.lower ? `; at ${l.lower.rate}/s the p99 ratio is ${fmt(l.lower.ratioP99, 2)}×` : '';
+	const result = !kept(l.readings) || !kept(l.bare) ? `**missed** (${l.rate}/s not reached${lower})` : verdict(l.ratioP99 <= 3 && l.readings.non2xx === 0);
 	rows.push([`One-reading POST at ${l.rate}/s, p50 / p99`, `${fmt(l.readings.p50)} / ${fmt(l.readings.p99)} ms`, `${fmt(l.bare.p50)} / ${fmt(l.bare.p99)} ms (bare route)`, `p99 ${fmt(l.ratioP99, 2)}×`, 'p99 ≤ 3×', result]);
 }
 if (http?.series) {
@@ -124,6 +125,19 @@ ${line('bare route', l.bare)}
 p99 ratio ${fmt(l.ratioP99, 2)}× (target ≤ 3×); p50 ratio ${fmt(l.ratioP50, 2)}×.${
 		l.readings.requestsPerSecond < 0.9 * l.rate || l.bare.requestsPerSecond < 0.9 * l.rate
 			? ` The server did not keep up with ${l.rate} requests/s in this run (see req/s): requests queued, so the latencies above are queueing time and the ratio says little.`
+			: ''
+	}${
+		l.lower
+			? `
+
+The same pair again at ${l.lower.rate} requests/s:
+
+| route | requests | req/s | p50 ms | p90 ms | p99 ms | max ms | non-2xx | errors |
+|---|---|---|---|---|---|---|---|---|
+${line('readings (device token)', l.lower.readings)}
+${line('bare route', l.lower.bare)}
+
+p99 ratio ${fmt(l.lower.ratioP99, 2)}×, p50 ratio ${fmt(l.lower.ratioP50, 2)}× at ${l.lower.rate}/s${l.lower.readings.requestsPerSecond < 0.9 * l.lower.rate ? ` (that rate was not kept either)` : ''}.`
 			: ''
 	}`);
 }
