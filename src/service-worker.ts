@@ -1,0 +1,124 @@
+/// <reference types="@sveltejs/kit" />
+/// <reference no-default-lib="true"/>
+/// <reference lib="esnext" />
+/// <reference lib="webworker" />
+
+/**
+ * Cellsitter's service worker (SvelteKit's own): keeps the app shell, and the run screen's last
+ * page and data, so that the run screen opens without a connection showing the groups it showed.
+ * Everything else goes to the network untouched; requests other than GET (form actions, the
+ * readings API — the page's own queue sends those) are never cached. A secure origin is needed
+ * for any of this (docs/deploy.md).
+ */
+import { build, files, version } from '$service-worker';
+
+const sw = self as unknown as ServiceWorkerGlobalScope;
+
+const PREFIX = 'cellsitter-';
+/** Built JS/CSS and static files of this version. */
+const SHELL = `${PREFIX}shell-${version}`;
+/** The run screens last seen: their HTML and __data.json (of this version: the HTML names its assets). */
+const RUN = `${PREFIX}run-${version}`;
+const ASSETS = new Set([...build, ...files]);
+/** A run screen, or its data: /w/{workshop}/sessions/{id}[/__data.json]. */
+const RUN_PATH = /^\/w\/[a-z0-9-]{1,48}\/sessions\/[a-z2-7]{24}\/?(__data\.json)?$/;
+/** On a slow connection the cached copy is shown after this long; the network answer still updates it. */
+const NETWORK_WAIT_MS = 4000;
+
+sw.addEventListener('install', (event) => {
+	event.waitUntil(
+		caches
+			.open(SHELL)
+			.then((cache) => cache.addAll([...ASSETS]))
+			.then(() => sw.skipWaiting())
+	);
+});
+
+sw.addEventListener('activate', (event) => {
+	event.waitUntil(
+		(async () => {
+			for (const key of await caches.keys()) {
+				if (key.startsWith(PREFIX) && key !== SHELL && key !== RUN) await caches.delete(key);
+			}
+			await sw.clients.claim();
+		})()
+	);
+});
+
+/** The cache key of a run page or its data: without the query (SvelteKit adds ?x-sveltekit-invalidated=…). */
+function runKey(url: URL): string {
+	return url.origin + url.pathname.replace(/\/$/, '');
+}
+
+/** Keeps a good answer of a run page; a redirect (signed out) or an error drops what was kept. */
+async function keepRunCopy(url: URL, response: Response): Promise<void> {
+	const cache = await caches.open(RUN);
+	if (response.ok && !response.redirected && response.type === 'basic') await cache.put(runKey(url), response);
+	else if (response.status === 401 || response.status === 403 || response.status === 404 || response.redirected)
+		await cache.delete(runKey(url));
+}
+
+async function networkFirst(event: FetchEvent, url: URL): Promise<Response> {
+	const cached = caches.open(RUN).then((cache) => cache.match(runKey(url)));
+	const network = fetch(event.request).then((response) => {
+		event.waitUntil(keepRunCopy(url, response.clone()));
+		return response;
+	});
+	const slow = new Promise<Response | undefined>((resolve) =>
+		setTimeout(async () => resolve(await cached), NETWORK_WAIT_MS)
+	);
+	try {
+		const first = await Promise.race([network, slow]);
+		if (first) return first;
+		return await network;
+	} catch {
+		const copy = await cached;
+		if (copy) return copy;
+		return new Response('You are offline and this page was not kept for offline use. Reconnect and reload.', {
+			status: 503,
+			headers: { 'content-type': 'text/plain; charset=utf-8' }
+		});
+	}
+}
+
+sw.addEventListener('fetch', (event) => {
+	const url = new URL(event.request.url);
+	if (url.origin !== sw.location.origin) return;
+	// Signing out forgets the kept run screens (they hold the workshop's data).
+	if (url.pathname === '/logout') {
+		event.waitUntil(caches.delete(RUN));
+		return;
+	}
+	if (event.request.method !== 'GET') return;
+	if (ASSETS.has(url.pathname)) {
+		event.respondWith(
+			caches.match(url.pathname, { cacheName: SHELL }).then((hit) => hit ?? fetch(event.request))
+		);
+		return;
+	}
+	if (RUN_PATH.test(url.pathname)) event.respondWith(networkFirst(event, url));
+});
+
+/**
+ * The run page asks to be kept when it opens: its first load came before this worker controlled
+ * the page, so the page and its data are fetched once more here.
+ */
+sw.addEventListener('message', (event) => {
+	const data = event.data as { type?: unknown; path?: unknown } | null;
+	if (data?.type !== 'keep-run-page' || typeof data.path !== 'string') return;
+	const path = data.path.replace(/\/$/, '');
+	if (!RUN_PATH.test(path)) return;
+	event.waitUntil(
+		Promise.all(
+			[path, `${path}/__data.json`].map(async (p) => {
+				const url = new URL(p, sw.location.origin);
+				try {
+					const response = await fetch(url, { credentials: 'same-origin', headers: p === path ? { accept: 'text/html' } : {} });
+					await keepRunCopy(url, response);
+				} catch {
+					// Offline already: what was kept stays.
+				}
+			})
+		)
+	);
+});

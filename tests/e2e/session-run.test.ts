@@ -1,0 +1,124 @@
+import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
+import { signUp, uniqueEmail } from './helpers';
+
+// The technician's run screen on a phone: start, log a round, lose the connection, log another
+// round (it waits on the phone), come back and see it saved exactly once.
+test.use({ viewport: { width: 390, height: 844 } });
+
+/** A 4S1P NMC pack with its cells placed, a one-channel bench supply and a planned session, over the JSON API. */
+async function plannedSession(page: Page, slug: string) {
+	await page.goto(`/w/${slug}/cell-specs/new`);
+	await page.getByLabel('Name').fill('Run 21700');
+	await page.getByLabel('Chemistry').selectOption('builtin:nmc');
+	await page.getByLabel('Capacity (Ah)').fill('4');
+	await page.getByLabel('Max charge current (A)').fill('4');
+	await page.getByLabel('Max continuous discharge (A)').fill('15');
+	await page.getByLabel('Max burst discharge (A)').fill('30');
+	await page.getByRole('button', { name: 'Save cell spec' }).click();
+	await expect(page.getByRole('cell', { name: 'Run 21700' })).toBeVisible();
+
+	await page.goto(`/w/${slug}/packs/new`);
+	await page.getByLabel('Pack name').fill('Run trial');
+	await page.getByLabel('Groups in series (S)').fill('4');
+	await page.getByLabel('Cells per group (P)').fill('1');
+	await page.getByRole('button', { name: 'Create pack' }).click();
+	await expect(page.getByRole('heading', { name: 'Run trial' })).toBeVisible();
+	const packId = new URL(page.url()).pathname.split('/')[4];
+
+	const api = page.request;
+	const ok = async <T>(response: Awaited<ReturnType<APIRequestContext['post']>>): Promise<T> => {
+		expect(response.ok(), await response.text()).toBe(true);
+		return (await response.json()) as T;
+	};
+	const volts = [3.61, 3.6, 3.62, 3.59];
+	await ok(await api.post(`/api/w/${slug}/packs/${packId}/cells`, { data: { cells: volts.map((v, i) => ({ label: `R${i + 1}`, volts: v })) } }));
+	const proposal = await ok<{ groups: { cellIds: string[] }[]; version: string }>(await api.post(`/api/w/${slug}/packs/${packId}/matching`, { data: {} }));
+	await ok(
+		await api.put(`/api/w/${slug}/packs/${packId}/matching`, {
+			data: { groups: proposal.groups.map((g) => g.cellIds), version: proposal.version }
+		})
+	);
+	const { charger } = await ok<{ charger: { id: string; channels: { id: string }[] } }>(
+		await api.post(`/api/w/${slug}/chargers`, {
+			data: { name: 'Bench supply', kind: 'bench-supply', channels: [{ name: 'Output', maxVolts: 30, maxAmps: 5 }] }
+		})
+	);
+	const { session } = await ok<{ session: { id: string } }>(
+		await api.post(`/api/w/${slug}/sessions`, {
+			data: {
+				packId,
+				kind: 'one-at-a-time',
+				chargerId: charger.id,
+				channelIds: [charger.channels[0].id],
+				amps: 2,
+				plannedStart: new Date().toISOString(),
+				name: 'First charge'
+			}
+		})
+	);
+	return session.id;
+}
+
+async function logRound(page: Page, volts: string[]) {
+	const entry = page.getByRole('region', { name: 'Log readings' });
+	for (const [i, v] of volts.entries()) {
+		const field = entry.getByLabel(`G${i + 1} volts per cell`);
+		await field.fill(v);
+		await field.press('Enter');
+	}
+	await entry.getByRole('button', { name: 'Save round' }).click();
+}
+
+test('a technician runs a session on a phone and logs readings through a dropped connection', async ({ page, baseURL }) => {
+	const slug = await signUp(page, { name: 'Rae Runner', email: uniqueEmail('runner'), workshop: 'Rae Bench' });
+	const sessionId = await plannedSession(page, slug);
+
+	// A second, separate client counts what the server holds (the page's own offline mode does
+	// not stop a service worker's fetches, so the server is the witness).
+	const witness = await playwrightRequest.newContext({ baseURL, storageState: await page.context().storageState() });
+	const stored = async () => {
+		const response = await witness.get(`/api/w/${slug}/sessions/${sessionId}/readings`);
+		expect(response.ok()).toBe(true);
+		return ((await response.json()).readings as { volts: number | null }[]).map((r) => r.volts).sort();
+	};
+
+	await page.goto(`/w/${slug}/sessions/${sessionId}`);
+	await expect(page.getByRole('heading', { name: 'First charge' })).toBeVisible();
+	await page.getByRole('button', { name: 'Start session' }).click();
+	await expect(page.getByText('Running', { exact: true })).toBeVisible();
+	await expect(page.getByText('Connect the leads to group 1, set 4.20\u2009V and 2\u2009A')).toBeVisible();
+	await page.getByRole('button', { name: 'Start step' }).click();
+	await expect(page.getByText('Group 1 on the charger: 4.20\u2009V, 2\u2009A')).toBeVisible();
+
+	const entry = page.getByRole('region', { name: 'Log readings' });
+	// The save button waits for the page's queue (IndexedDB) — the page is ready.
+	await expect(entry.getByRole('button', { name: 'Save round' })).toBeEnabled();
+	await logRound(page, ['3.7', '3.6', '3,61', '3.598']);
+	await expect(entry.getByText('Saved 4 readings')).toBeVisible();
+	expect(await stored()).toEqual([3.598, 3.6, 3.61, 3.7]);
+	// The tiles show the round: group 1 at 3.700 V is 73 mV over the mean, (3.7 + 3.6 + 3.61 + 3.598) / 4 = 3.627 V.
+	const g1 = page.getByRole('listitem', { name: 'Group 1' });
+	await expect(g1).toContainText('3.700\u2009V');
+	await expect(g1).toContainText('+73\u2009mV');
+
+	await page.context().setOffline(true);
+	await logRound(page, ['3.71', '3.601', '3.612', '3.599']);
+	await expect(entry.getByText('4 readings waiting to send — they will go when the connection is back.')).toBeVisible();
+	await expect(page.getByText(/No connection\. The groups are as they were/)).toBeVisible();
+	// Nothing of the second round reached the server while offline.
+	await page.waitForTimeout(1000);
+	expect(await stored()).toHaveLength(4);
+
+	await page.context().setOffline(false);
+	await expect(entry.getByText('Saved 4 readings')).toBeVisible();
+	await expect(entry.getByText(/waiting to send/)).toHaveCount(0);
+	expect(await stored()).toEqual([3.598, 3.599, 3.6, 3.601, 3.61, 3.612, 3.7, 3.71]);
+	await expect(g1).toContainText('3.710\u2009V');
+
+	// Safety first: the technician may stop at once, with a reason.
+	await page.getByRole('button', { name: 'Stop…' }).click();
+	await page.getByLabel('Why does the session stop?').fill('Group 1 felt warm');
+	await page.getByRole('button', { name: 'Stop the session' }).click();
+	await expect(page.getByText('Stopped because: Group 1 felt warm')).toBeVisible();
+	await witness.dispose();
+});
