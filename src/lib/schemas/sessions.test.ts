@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import {
 	handoverSchema,
+	limitProblems,
 	plannedStartInstant,
 	sessionPatchSchema,
 	sessionPlanSchema,
@@ -111,5 +112,49 @@ describe('run actions', () => {
 		expect(stepActionSchema.safeParse({ action: 'done' }).success).toBe(true);
 		expect(statusActionSchema.safeParse({ action: 'delete' }).success).toBe(false);
 		expect(handoverSchema.safeParse({ userId: '' }).success).toBe(false);
+	});
+});
+
+describe('limitProblems', () => {
+	// A hand-written set of defaults (NMC charged to 4.20 V: stop at 4.20 + 0.05 V, warn at +0.02 V).
+	const defaults = {
+		overVoltsWarning: 4.22,
+		overVoltsCritical: 4.25,
+		underVoltsWarning: 3.0,
+		tempWarningC: 45,
+		tempCriticalC: 60,
+		minChargeTempC: 0,
+		heatRiseCPerMinute: 1,
+		heatAboveAmbientC: 10,
+		driftWarningVolts: 0.03,
+		driftCriticalVolts: 0.08,
+		readingIntervalMinutes: 60,
+		readingGraceMinutes: 15,
+		overrunFactor: 1.5
+	};
+
+	it('lets every limit be tightened without a word', () => {
+		expect(limitProblems(defaults, { overVoltsCritical: 4.21, overVoltsWarning: 4.2, underVoltsWarning: 3.2, minChargeTempC: 5, tempWarningC: 40, driftWarningVolts: 0.02 }, '')).toEqual([]);
+	});
+
+	it.each([
+		[{ overVoltsCritical: 4.3 }, 'overVoltsCritical', /over-voltage stop of 4\.3 V is looser than .* 4\.25 V/],
+		[{ minChargeTempC: -5 }, 'minChargeTempC', /lowest charging temperature of -5 °C/],
+		[{ underVoltsWarning: 2.5 }, 'underVoltsWarning', /under-voltage warning of 2\.5 V/],
+		[{ driftCriticalVolts: 0.1 }, 'driftCriticalVolts', /drift stop of 0\.1 V/]
+	])('names a loosened limit %j', (overrides, key, message) => {
+		const [problem] = limitProblems(defaults, overrides, '');
+		expect(problem.key).toBe(key);
+		expect(problem.message).toMatch(message);
+	});
+
+	it('takes a loosened limit when the confirmation names its value (a decimal comma too)', () => {
+		expect(limitProblems(defaults, { overVoltsCritical: 4.3 }, 'Datasheet p. 3: charge cut-off 4,30 V')).toEqual([]);
+		expect(limitProblems(defaults, { overVoltsCritical: 4.3 }, 'Datasheet says 4.35 V')).toHaveLength(1);
+	});
+
+	it('keeps each warning on the safe side of its stop', () => {
+		expect(limitProblems(defaults, { overVoltsWarning: 4.21, overVoltsCritical: 4.2 }, '').map((p) => p.key)).toEqual(['overVoltsWarning']);
+		expect(limitProblems(defaults, { tempWarningC: 44, tempCriticalC: 40 }, '').map((p) => p.key)).toEqual(['tempWarningC']);
 	});
 });

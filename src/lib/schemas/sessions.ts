@@ -10,6 +10,7 @@
  */
 import { TZDate } from '@date-fns/tz';
 import { z } from 'zod';
+import type { Limits } from '$lib/engine';
 import { sessionKinds, sessionTargets } from '$lib/session-plan';
 import { recordId } from './packs';
 import { lineText } from './text';
@@ -116,6 +117,51 @@ export const limitMeta: Record<LimitKey, { looser: 'up' | 'down'; words: string;
 	readingGraceMinutes: { looser: 'up', words: 'grace for a late reading', unit: 'minutes' },
 	overrunFactor: { looser: 'up', words: 'overrun factor', unit: '×' }
 };
+
+const round3 = (v: number) => String(Math.round(v * 1000) / 1000);
+
+/** True when the text names the value (a number in it equal to it; a decimal comma counts). */
+function namesValue(text: string, value: number): boolean {
+	const numbers = text.match(/-?\d+(?:[.,]\d+)?/g) ?? [];
+	return numbers.some((n) => Math.abs(Number(n.replace(',', '.')) - value) < 1e-6);
+}
+
+export type LimitProblem = { key: LimitKey; message: string };
+
+/**
+ * What is wrong with the planner's limits against the chemistry's defaults, in words (empty when
+ * nothing): a limit loosened past its default without the confirmation naming the datasheet
+ * value, or a warning level past its stop level. Client-safe: the plan form shows the same words
+ * the server refuses with.
+ */
+export function limitProblems(defaults: Limits, overrides: LimitOverrides, confirmation: string): LimitProblem[] {
+	const problems: LimitProblem[] = [];
+	for (const key of Object.keys(overrides) as LimitKey[]) {
+		const value = overrides[key];
+		if (value === undefined || !(key in limitMeta)) continue;
+		const meta = limitMeta[key];
+		const usual = defaults[key];
+		const looser = meta.looser === 'up' ? value > usual + 1e-9 : value < usual - 1e-9;
+		if (looser && !namesValue(confirmation, value)) {
+			const v = `${round3(value)} ${meta.unit}`;
+			problems.push({
+				key,
+				message: `The ${meta.words} of ${v} is looser than this chemistry's default of ${round3(usual)} ${meta.unit}. Check the cell maker's datasheet: if it allows ${v}, say so in the confirmation (for example “datasheet allows ${v}”); otherwise keep the default.`
+			});
+		}
+	}
+	const merged = { ...defaults, ...overrides };
+	const order: [LimitKey, LimitKey, string][] = [
+		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage warning must not be above the over-voltage stop.'],
+		['tempWarningC', 'tempCriticalC', 'The temperature warning must not be above the temperature stop.'],
+		['driftWarningVolts', 'driftCriticalVolts', 'The drift warning must not be above the drift stop.']
+	];
+	for (const [warning, stop, message] of order) if (merged[warning] > merged[stop]) problems.push({ key: warning, message });
+	if (merged.underVoltsWarning >= merged.overVoltsWarning) {
+		problems.push({ key: 'underVoltsWarning', message: 'The under-voltage warning must be below the over-voltage warning.' });
+	}
+	return problems;
+}
 
 const handsOnSchema = z.object({
 	/** Daily windows, wall-clock in the workshop's zone; `to` at or before `from` runs past midnight. */

@@ -5,7 +5,7 @@
  */
 import { and, eq } from 'drizzle-orm';
 import type { Limits } from '$lib/engine';
-import { limitMeta, plannedStartInstant, type LimitKey, type LimitOverrides, type SessionPatch, type SessionPlanFields } from '$lib/schemas/sessions';
+import { limitProblems, plannedStartInstant, type LimitOverrides, type SessionPatch, type SessionPlanFields } from '$lib/schemas/sessions';
 import { computeSessionPlan, type SessionKind, type SessionPlan, type SessionTarget } from '$lib/session-plan';
 import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Tx } from '../db';
@@ -43,18 +43,10 @@ export type PlanValues = {
 export type SavedPlan = { ok: true; session: ChargeSession; steps: SessionStep[]; plan: SessionPlan };
 export type SavePlanResult = SavedPlan | SessionFailure;
 
-const round = (v: number) => String(Math.round(v * 1000) / 1000);
-
-/** True when the text names the value (a number in it equal to it; a decimal comma counts). */
-function namesValue(text: string, value: number): boolean {
-	const numbers = text.match(/-?\d+(?:[.,]\d+)?/g) ?? [];
-	return numbers.some((n) => Math.abs(Number(n.replace(',', '.')) - value) < 1e-6);
-}
-
 /**
  * The session's limits: the chemistry's defaults with the planner's overrides. Tightening is free;
- * loosening one past its default needs the confirmation to name the datasheet value. Warning
- * levels stay on the safe side of their stop levels.
+ * loosening one past its default needs the confirmation to name the datasheet value
+ * (`limitProblems`, which the plan form shows too).
  */
 export function limitsFor(
 	defaults: Limits,
@@ -62,34 +54,9 @@ export function limitsFor(
 	confirmation: string,
 	readingIntervalMinutes: number
 ): { ok: true; limits: Limits } | SessionFailure {
-	for (const key of Object.keys(overrides) as LimitKey[]) {
-		const value = overrides[key];
-		if (value === undefined) continue;
-		const meta = limitMeta[key];
-		const usual = defaults[key];
-		const looser = meta.looser === 'up' ? value > usual + 1e-9 : value < usual - 1e-9;
-		if (looser && !namesValue(confirmation, value)) {
-			return invalid(
-				`The ${meta.words} of ${round(value)} ${meta.unit} is looser than this chemistry's default of ${round(usual)} ${meta.unit}. Check the cell maker's datasheet: if it allows ${round(value)} ${meta.unit}, say so in the confirmation (for example “datasheet allows ${round(value)} ${meta.unit}”); otherwise keep the default.`,
-				`limits.${key}`,
-				'limit-needs-datasheet'
-			);
-		}
-	}
-	const limits: Limits = { ...defaults, ...overrides, readingIntervalMinutes };
-	if (limits.overVoltsWarning > limits.overVoltsCritical) {
-		return invalid('The over-voltage warning must not be above the over-voltage stop.', 'limits.overVoltsWarning');
-	}
-	if (limits.tempWarningC > limits.tempCriticalC) {
-		return invalid('The temperature warning must not be above the temperature stop.', 'limits.tempWarningC');
-	}
-	if (limits.driftWarningVolts > limits.driftCriticalVolts) {
-		return invalid('The drift warning must not be above the drift stop.', 'limits.driftWarningVolts');
-	}
-	if (limits.underVoltsWarning >= limits.overVoltsWarning) {
-		return invalid('The under-voltage warning must be below the over-voltage warning.', 'limits.underVoltsWarning');
-	}
-	return { ok: true, limits };
+	const [problem] = limitProblems(defaults, overrides, confirmation);
+	if (problem) return invalid(problem.message, `limits.${problem.key}`, 'limit-refused');
+	return { ok: true, limits: { ...defaults, ...overrides, readingIntervalMinutes } };
 }
 
 /** The values the engine plans from (the rest are the session's own: name, limits, watch). */
