@@ -151,6 +151,7 @@ describe('limitProblems', () => {
 	it('takes a loosened limit when the confirmation names its value (a decimal comma too)', () => {
 		expect(limitProblems(defaults, { overVoltsCritical: 4.3 }, 'Datasheet p. 3: charge cut-off 4,30 V')).toEqual([]);
 		expect(limitProblems(defaults, { overVoltsCritical: 4.3 }, 'Datasheet says 4.35 V')).toHaveLength(1);
+		expect(limitProblems(defaults, { minChargeTempC: -5 }, 'Datasheet: charge from −5 °C')).toEqual([]);
 	});
 
 	it('keeps each warning on the safe side of its stop', () => {

@@ -120,10 +120,14 @@ export const limitMeta: Record<LimitKey, { looser: 'up' | 'down'; words: string;
 
 const round3 = (v: number) => String(Math.round(v * 1000) / 1000);
 
-/** True when the text names the value (a number in it equal to it; a decimal comma counts). */
+/**
+ * True when the text names the value: a number in it equal to its size (a decimal comma counts;
+ * the sign is not read, so "−5 °C", "-5 °C" and "5 °C below zero" all name −5 — as the plan form
+ * checks it, src/lib/plan-form.ts).
+ */
 function namesValue(text: string, value: number): boolean {
-	const numbers = text.match(/-?\d+(?:[.,]\d+)?/g) ?? [];
-	return numbers.some((n) => Math.abs(Number(n.replace(',', '.')) - value) < 1e-6);
+	const numbers = text.match(/\d+(?:[.,]\d+)?/g) ?? [];
+	return numbers.some((n) => Math.abs(Number(n.replace(',', '.')) - Math.abs(value)) < 1e-6);
 }
 
 export type LimitProblem = { key: LimitKey; message: string };
