@@ -312,11 +312,11 @@ describe('charge sessions: the core', () => {
 
 	it('tightens limits freely; loosening one past the default needs the datasheet value named; foreign equipment is refused', async () => {
 		const p = await newPack();
-		// NMC's over-voltage stop defaults to 4.20 V + 50 mV = 4.25 V per cell (BU-409 tolerance).
+		// NMC's over-voltage act-now limit defaults to 4.20 V + 50 mV = 4.25 V per cell (BU-409 tolerance).
 		const loose = await post(builder, planBody(p, { limits: { overVoltsCritical: 4.3 } }));
 		expect(loose.status).toBe(400);
 		const body = (await loose.json()) as { message: string; errors: { path: string }[] };
-		expect(body.message).toMatch(/over-voltage stop of 4\.3 V .* default of 4\.25 V/);
+		expect(body.message).toMatch(/over-voltage act-now limit of 4\.3 V .* default of 4\.25 V/);
 		expect(body.errors[0].path).toBe('limits.overVoltsCritical');
 		expect(await db.select().from(chargeSessions).where(eq(chargeSessions.packId, p.pack.id))).toHaveLength(0);
 

@@ -138,10 +138,10 @@ describe('limitProblems', () => {
 	});
 
 	it.each([
-		[{ overVoltsCritical: 4.3 }, 'overVoltsCritical', /over-voltage stop of 4\.3 V is looser than .* 4\.25 V/],
+		[{ overVoltsCritical: 4.3 }, 'overVoltsCritical', /over-voltage act-now limit of 4\.3 V is looser than .* 4\.25 V/],
 		[{ minChargeTempC: -5 }, 'minChargeTempC', /lowest charging temperature of -5 °C/],
-		[{ underVoltsWarning: 2.5 }, 'underVoltsWarning', /under-voltage warning of 2\.5 V/],
-		[{ driftCriticalVolts: 0.1 }, 'driftCriticalVolts', /drift stop of 0\.1 V/]
+		[{ underVoltsWarning: 2.5 }, 'underVoltsWarning', /under-voltage limit of 2\.5 V/],
+		[{ driftCriticalVolts: 0.1 }, 'driftCriticalVolts', /group spread act-now limit of 0\.1 V/]
 	])('names a loosened limit %j', (overrides, key, message) => {
 		const [problem] = limitProblems(defaults, overrides, '');
 		expect(problem.key).toBe(key);

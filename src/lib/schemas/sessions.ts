@@ -81,16 +81,16 @@ export function plannedStartInstant(value: string, timeZone: string): Date | nul
  */
 export const limitOverridesSchema = z
 	.object({
-		overVoltsWarning: between('The over-voltage warning', 1, 5, ' V'),
-		overVoltsCritical: between('The over-voltage stop', 1, 5, ' V'),
-		underVoltsWarning: between('The under-voltage warning', 0.5, 5, ' V'),
-		tempWarningC: between('The temperature warning', -40, 150, ' °C'),
-		tempCriticalC: between('The temperature stop', -40, 150, ' °C'),
+		overVoltsWarning: between('The over-voltage watch limit', 1, 5, ' V'),
+		overVoltsCritical: between('The over-voltage act-now limit', 1, 5, ' V'),
+		underVoltsWarning: between('The under-voltage limit', 0.5, 5, ' V'),
+		tempWarningC: between('The temperature watch limit', -40, 150, ' °C'),
+		tempCriticalC: between('The temperature act-now limit', -40, 150, ' °C'),
 		minChargeTempC: between('The lowest charging temperature', -40, 60, ' °C'),
-		heatRiseCPerMinute: above('The heat rise limit', 20, ' °C per minute'),
-		heatAboveAmbientC: above('The limit above ambient', 100, ' °C'),
-		driftWarningVolts: above('The drift warning', 1, ' V'),
-		driftCriticalVolts: above('The drift stop', 1, ' V'),
+		heatRiseCPerMinute: above('The temperature rise limit', 20, ' °C per minute'),
+		heatAboveAmbientC: above('The limit above room temperature', 100, ' °C'),
+		driftWarningVolts: above('The group spread watch limit', 1, ' V'),
+		driftCriticalVolts: above('The group spread act-now limit', 1, ' V'),
 		readingGraceMinutes: whole('The grace for a late reading', 0, 240, ' minutes'),
 		overrunFactor: between('The overrun factor', 1, 10)
 	})
@@ -104,16 +104,16 @@ export type LimitKey = keyof LimitOverrides;
  * words name it in messages.
  */
 export const limitMeta: Record<LimitKey, { looser: 'up' | 'down'; words: string; unit: string }> = {
-	overVoltsWarning: { looser: 'up', words: 'over-voltage warning', unit: 'V' },
-	overVoltsCritical: { looser: 'up', words: 'over-voltage stop', unit: 'V' },
-	underVoltsWarning: { looser: 'down', words: 'under-voltage warning', unit: 'V' },
-	tempWarningC: { looser: 'up', words: 'temperature warning', unit: '°C' },
-	tempCriticalC: { looser: 'up', words: 'temperature stop', unit: '°C' },
+	overVoltsWarning: { looser: 'up', words: 'over-voltage watch limit', unit: 'V' },
+	overVoltsCritical: { looser: 'up', words: 'over-voltage act-now limit', unit: 'V' },
+	underVoltsWarning: { looser: 'down', words: 'under-voltage limit', unit: 'V' },
+	tempWarningC: { looser: 'up', words: 'temperature watch limit', unit: '°C' },
+	tempCriticalC: { looser: 'up', words: 'temperature act-now limit', unit: '°C' },
 	minChargeTempC: { looser: 'down', words: 'lowest charging temperature', unit: '°C' },
-	heatRiseCPerMinute: { looser: 'up', words: 'heat rise limit', unit: '°C per minute' },
-	heatAboveAmbientC: { looser: 'up', words: 'limit above ambient', unit: '°C' },
-	driftWarningVolts: { looser: 'up', words: 'drift warning', unit: 'V' },
-	driftCriticalVolts: { looser: 'up', words: 'drift stop', unit: 'V' },
+	heatRiseCPerMinute: { looser: 'up', words: 'temperature rise limit', unit: '°C per minute' },
+	heatAboveAmbientC: { looser: 'up', words: 'limit above room temperature', unit: '°C' },
+	driftWarningVolts: { looser: 'up', words: 'group spread watch limit', unit: 'V' },
+	driftCriticalVolts: { looser: 'up', words: 'group spread act-now limit', unit: 'V' },
 	readingGraceMinutes: { looser: 'up', words: 'grace for a late reading', unit: 'minutes' },
 	overrunFactor: { looser: 'up', words: 'overrun factor', unit: '×' }
 };
@@ -135,7 +135,7 @@ export type LimitProblem = { key: LimitKey; message: string };
 /**
  * What is wrong with the planner's limits against the chemistry's defaults, in words (empty when
  * nothing): a limit loosened past its default without the confirmation naming the datasheet
- * value, or a warning level past its stop level. Client-safe: the plan form shows the same words
+ * value, or a watch level past its act-now level. Client-safe: the plan form shows the same words
  * the server refuses with.
  */
 export function limitProblems(defaults: Limits, overrides: LimitOverrides, confirmation: string): LimitProblem[] {
@@ -156,13 +156,13 @@ export function limitProblems(defaults: Limits, overrides: LimitOverrides, confi
 	}
 	const merged = { ...defaults, ...overrides };
 	const order: [LimitKey, LimitKey, string][] = [
-		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage warning must not be above the over-voltage stop.'],
-		['tempWarningC', 'tempCriticalC', 'The temperature warning must not be above the temperature stop.'],
-		['driftWarningVolts', 'driftCriticalVolts', 'The drift warning must not be above the drift stop.']
+		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage watch limit must not be above its act-now limit.'],
+		['tempWarningC', 'tempCriticalC', 'The temperature watch limit must not be above its act-now limit.'],
+		['driftWarningVolts', 'driftCriticalVolts', 'The group spread watch limit must not be above its act-now limit.']
 	];
 	for (const [warning, stop, message] of order) if (merged[warning] > merged[stop]) problems.push({ key: warning, message });
 	if (merged.underVoltsWarning >= merged.overVoltsWarning) {
-		problems.push({ key: 'underVoltsWarning', message: 'The under-voltage warning must be below the over-voltage warning.' });
+		problems.push({ key: 'underVoltsWarning', message: 'The under-voltage limit must be below the over-voltage watch limit.' });
 	}
 	return problems;
 }
