@@ -45,34 +45,46 @@ sw.addEventListener('activate', (event) => {
 	);
 });
 
-/** The cache key of a run page or its data: without the query (SvelteKit adds ?x-sveltekit-invalidated=…). */
-function runKey(url: URL): string {
-	return url.origin + url.pathname.replace(/\/$/, '');
+const isData = (url: URL) => url.pathname.endsWith('/__data.json');
+
+/**
+ * The cache key of a run page or its data. Data keeps its query: SvelteKit's
+ * ?x-sveltekit-invalidated=… mask says which parts the answer holds, so only the same request may
+ * be answered from it; the data without a query (every part) is the fallback.
+ */
+function runKey(url: URL, withQuery = true): string {
+	return url.origin + url.pathname.replace(/\/$/, '') + (withQuery && isData(url) ? url.search : '');
 }
 
-/** Keeps a good answer of a run page; a redirect (signed out) or an error drops what was kept. */
+/** Keeps a good answer of a run page; a redirect (signed out) or a refusal drops what was kept. */
 async function keepRunCopy(url: URL, response: Response): Promise<void> {
 	const cache = await caches.open(RUN);
 	if (response.ok && !response.redirected && response.type === 'basic') await cache.put(runKey(url), response);
-	else if (response.status === 401 || response.status === 403 || response.status === 404 || response.redirected)
+	else if (response.status === 401 || response.status === 403 || response.status === 404 || response.type === 'opaqueredirect')
 		await cache.delete(runKey(url));
 }
 
+/** The kept copy, marked so that the page knows it is one (it then shows the newest kept data). */
+async function keptCopy(url: URL): Promise<Response | undefined> {
+	const cache = await caches.open(RUN);
+	const hit = (await cache.match(runKey(url))) ?? (isData(url) ? await cache.match(runKey(url, false)) : undefined);
+	if (!hit || isData(url)) return hit;
+	const html = (await hit.text()).replace('<head>', '<head><meta name="cellsitter-offline-copy" content="1">');
+	return new Response(html, { status: 200, headers: hit.headers });
+}
+
 async function networkFirst(event: FetchEvent, url: URL): Promise<Response> {
-	const cached = caches.open(RUN).then((cache) => cache.match(runKey(url)));
 	const network = fetch(event.request).then((response) => {
 		event.waitUntil(keepRunCopy(url, response.clone()));
 		return response;
 	});
-	const slow = new Promise<Response | undefined>((resolve) =>
-		setTimeout(async () => resolve(await cached), NETWORK_WAIT_MS)
-	);
+	const slow = new Promise<Response | undefined>((resolve) => setTimeout(() => resolve(keptCopy(url)), NETWORK_WAIT_MS));
 	try {
 		const first = await Promise.race([network, slow]);
 		if (first) return first;
 		return await network;
 	} catch {
-		const copy = await cached;
+		const copy = await keptCopy(url);
 		if (copy) return copy;
 		return new Response('You are offline and this page was not kept for offline use. Reconnect and reload.', {
 			status: 503,

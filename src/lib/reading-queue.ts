@@ -95,8 +95,9 @@ export function createReadingQueue(opts: { store: QueueStore; key: string; send:
 			let outcome: SendOutcome;
 			try {
 				outcome = await send(batch);
-			} catch (e) {
-				outcome = { kind: 'retry', message: e instanceof Error ? e.message : 'The readings could not be sent.' };
+			} catch {
+				// No answer at all (no connection, server down): nothing to add to "waiting".
+				outcome = { kind: 'retry', message: '' };
 			}
 			if (outcome.kind === 'retry') return { ...result, retry: true, message: outcome.message };
 			if (outcome.kind === 'stored') {

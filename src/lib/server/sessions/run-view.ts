@@ -74,6 +74,8 @@ export type RunStep = {
 	position: number;
 	groupIndex: number | null;
 	role: string;
+	/** The channel's id, or its label when it has none: steps with the same key share the leads. */
+	channelKey: string;
 	channelLabel: string;
 	status: RunStepInput['status'];
 	/** What to do to start it ("Move the leads to group 5, set 4.20 V and 10 A"). */
@@ -170,6 +172,7 @@ export function buildRunView(input: RunInput): RunView {
 			position: s.position,
 			groupIndex,
 			role: s.role,
+			channelKey: s.channelId ?? `label:${s.channelLabel}`,
 			channelLabel: s.channelLabel,
 			status: s.status,
 			instruction: stepInstruction(words, { move: earlier.some((o) => o.groupId !== null), showChannel: channels.size > 1 }),
