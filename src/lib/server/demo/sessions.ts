@@ -8,7 +8,7 @@
  */
 import { TZDate } from '@date-fns/tz';
 import { and, eq, inArray, sql } from 'drizzle-orm';
-import { restVoltageFromSoc, socFromRestVoltage, type Chemistry } from '$lib/engine';
+import { endSocAtSetVolts, restVoltageFromSoc, socFromRestVoltage, type Chemistry } from '$lib/engine';
 import { sessionPlanSchema, plannedStartInstant } from '$lib/schemas/sessions';
 import { computeSessionPlan, type SessionPlan } from '$lib/session-plan';
 import { findMember, type Member } from '../auth/permissions';
@@ -150,7 +150,8 @@ type Segment = { step: RunStep; from: number; to: number; socFrom: number; socCc
 
 /**
  * A group's volts, amps and heat at a moment, from the plan it ran: in CC the rest curve of its
- * state of charge plus an IR-and-polarisation offset, rising to the set voltage at the CC→CV point;
+ * state of charge plus the constant rise that meets the set voltage at the CC→CV point (as the
+ * engine models a charge, so its re-estimate reads these readings back sensibly);
  * in CV the set voltage with the current tapering towards termination; at rest the curve again,
  * relaxing from where the charge left it.
  */
@@ -161,7 +162,6 @@ function groupAt(
 	chem: Chemistry,
 	setVolts: number,
 	capacityAh: number,
-	offsetVolts: number,
 	settleVolts: number
 ): { volts: number; amps: number | null; heat: number; step: RunStep | null } {
 	const rest = (soc: number) => {
@@ -179,8 +179,14 @@ function groupAt(
 		if (tau < ccShare) {
 			const u = tau / ccShare;
 			const soc = seg.socFrom + (seg.socCc - seg.socFrom) * u;
-			const lift = (setVolts - rest(seg.socCc) - offsetVolts) * u;
-			return { volts: Math.min(setVolts, rest(soc) + offsetVolts + lift), amps: seg.amps, heat, step };
+			// The engine's CC model (docs/engine.md): the curve plus a constant rise that meets the set
+			// voltage where CV begins. At a trickle on a flat curve (5 A into 105 Ah of LFP) that rise
+			// would hold the cells near the set voltage all along; a bench sees IR and polarisation
+			// instead, so the rise is capped at 20 mV + 2 V per C (invented, plausible figures).
+			const cRate = seg.amps / capacityAh;
+			const socAtCv = endSocAtSetVolts(chem, setVolts) - chem.cvShareAt1C * cRate;
+			const rise = Math.max(0.005, Math.min(setVolts - rest(socAtCv), 0.02 + 2 * cRate));
+			return { volts: Math.min(setVolts, rest(soc) + rise), amps: seg.amps, heat, step };
 		}
 		const w = (tau - ccShare) / (1 - ccShare);
 		const termination = chem.terminationC * capacityAh;
@@ -190,7 +196,7 @@ function groupAt(
 	if (!last) return { volts: rest(socStart), amps: null, heat: 0, step: null };
 	// Off the charger the surface charge settles: towards the curve's volts, and a full group a
 	// little below the set voltage (`settleVolts`, a few mV apart from group to group).
-	const relax = Math.exp(-(t - last.to) / (40 * MINUTE));
+	const relax = Math.exp(-(t - last.to) / (20 * MINUTE));
 	const atRest = Math.min(rest(last.socTo), setVolts - settleVolts);
 	return { volts: atRest + (setVolts - 0.003 - atRest) * relax, amps: null, heat: 1.5 * relax, step: null };
 }
@@ -205,7 +211,6 @@ function readingsOf(opts: {
 	groups: { id: string; index: number }[];
 	chem: Chemistry;
 	capacityAh: number;
-	offsetVolts: number;
 	/** How far below the set voltage a full group settles at rest. */
 	settleVolts: number;
 	rounds: Date[];
@@ -246,7 +251,7 @@ function readingsOf(opts: {
 			const track = tracks.get(g.id)!;
 			// Each group read a few seconds after the one before.
 			const takenAt = new Date(at.getTime() + g.index * 20_000);
-			const s = groupAt(takenAt.getTime(), track.segments, track.socStart, chem, setVolts, capacityAh, opts.offsetVolts, track.settle);
+			const s = groupAt(takenAt.getTime(), track.segments, track.socStart, chem, setVolts, capacityAh, track.settle);
 			// ±2 mV of meter noise, never above the set voltage the supply holds.
 			const volts = Math.round(Math.min(setVolts, s.volts + (opts.rand() - 0.5) * 0.004) * 1000) / 1000;
 			packVolts += volts;
@@ -374,8 +379,6 @@ export async function loadDemoSessions(slug: string, emails: DemoEmails, now = n
 			groups: trikeSpec.groups,
 			chem: trikeSpec.chemistry,
 			capacityAh: trikeSpec.cellCapacityAh * trikeSpec.parallel,
-			// 8 A through a 4 mΩ group, plus polarisation.
-			offsetVolts: 0.05,
 			settleVolts: 0.014,
 			rounds: trikeRounds,
 			// A workshop cooling through the night.
@@ -389,7 +392,6 @@ export async function loadDemoSessions(slug: string, emails: DemoEmails, now = n
 			groups: camperCtx.pack.groups,
 			chem: camperCtx.pack.chemistry,
 			capacityAh: camperCtx.pack.cellCapacityAh * camperCtx.pack.parallel,
-			offsetVolts: 0.03,
 			// LFP falls back from its charge voltage to the top of its plateau.
 			settleVolts: 0.22,
 			rounds: hourlyUntil(new Date(camperStarted.getTime() + 5 * MINUTE), new Date(now.getTime() - 12 * MINUTE)),
