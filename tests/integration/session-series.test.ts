@@ -119,7 +119,7 @@ describe('session chart data', () => {
 		}
 	});
 
-	it('gives the spread of the groups’ latest readings and whole-pack readings per cell (worked by hand)', async () => {
+	it('gives the spread of the groups’ latest readings and whole-pack readings per cell (worked by hand), fresh after an event', async () => {
 		const { owner, pack } = await packFixture({ series: 4, parallel: 2 });
 		const [g1, g2] = await groupsOf(pack.id);
 		const session = await sessionOf(owner, pack.id);
@@ -144,6 +144,13 @@ describe('session chart data', () => {
 		expect(packLine?.label).toBe('Whole pack (per cell)');
 		expect(packLine?.points).toEqual([[t0 + 3 * MINUTE, 3.8]]);
 		expect(body.step).toBeNull();
+
+		// Kept for the next viewer until the session's next event, then computed again.
+		await insertReadings(session.id, pack.id, [{ groupId: g1.id, takenAt: new Date(t0 + 5 * MINUTE), volts: 4.01 }]);
+		const g1Last = async () => ((await (await getSeries(owner, session.id)).json()) as SessionSeries).volts[0].points.at(-1);
+		expect(await g1Last()).toEqual([t0 + 2 * MINUTE, 3.8]);
+		await db.transaction((tx) => notifySession(tx, { sessionId: session.id, workshopId: owner.workshop.id, kind: 'reading', count: 1 }));
+		await expect.poll(g1Last).toEqual([t0 + 5 * MINUTE, 4.01]);
 	});
 
 	it('draws the running step’s planned current next to the logged one', async () => {

@@ -26,10 +26,13 @@ function parseEvent(payload: string): SessionEvent | null {
 	}
 }
 
+/** Listeners of every session's events (caches that drop a session's entry when it changes). */
+const everyEvent = new Set<Listener>();
+
 function deliver(payload: string) {
 	const event = parseEvent(payload);
 	if (!event) return;
-	for (const fn of subscribers.get(event.sessionId) ?? []) {
+	for (const fn of [...everyEvent, ...(subscribers.get(event.sessionId) ?? [])]) {
 		try {
 			fn(event);
 		} catch (e) {
@@ -68,6 +71,20 @@ export async function subscribe(sessionId: string, fn: Listener): Promise<() => 
 		throw e;
 	}
 	return unsubscribe;
+}
+
+/**
+ * Calls `fn` with every session's events while this process listens; resolves to true once the
+ * LISTEN is in place, false when it cannot be (then nothing may be cached on the strength of it).
+ */
+export async function onEverySessionEvent(fn: Listener): Promise<boolean> {
+	everyEvent.add(fn);
+	try {
+		await ensureListening();
+		return true;
+	} catch {
+		return false;
+	}
 }
 
 /** How many subscribers the session has in this process (for tests and diagnostics). */

@@ -16,7 +16,7 @@ import type { Member } from '../auth/permissions';
 import { getCellSpec } from '../cell-specs';
 import { db } from '../db';
 import { chargeSessions, packGroups, packs, sessionSteps } from '../db/schema';
-import { findVisibleSession } from './live';
+import { findVisibleSession, onEverySessionEvent, type VisibleSession } from './live';
 
 /** [epoch ms, value]: compact on the wire, and chart.js reads it with `parsing: false` after mapping. */
 export type SeriesPoint = [number, number];
@@ -84,26 +84,29 @@ type BucketRow = { groupId: string | null; b: number } & Record<string, number[]
  * [t, v] and [v, t] pick whole points in one pass over the index range.
  */
 async function bucketed(where: SQL, quantities: Quantity[], buckets: number): Promise<BucketRow[]> {
+	// The span from the (session, taken_at) index: two probes, so the big query is a single pass.
+	const [span] = (await db.execute(sql`
+		select date_part('epoch', min(taken_at)) * 1000 as lo, date_part('epoch', max(taken_at)) * 1000 as hi
+		from readings where ${where}`)) as unknown as { lo: number | null; hi: number | null }[];
+	if (span?.lo === null || span?.lo === undefined || span.hi === null) return [];
+	const width = Math.max(span.hi - span.lo, 1);
+	// date_part gives float8 directly (extract() is numeric since PostgreSQL 14, several times slower).
+	const t = sql.raw(`(date_part('epoch', taken_at) * 1000)`);
 	const aggregates = quantities.map((q) => {
 		const col = sql.raw(q);
 		const has = sql`${col} is not null`;
-		return sql`min(array[t, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_first`)},
-			max(array[t, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_last`)},
-			min(array[${col}, t]) filter (where ${has}) as ${sql.raw(`${q}_min`)},
-			max(array[${col}, t]) filter (where ${has}) as ${sql.raw(`${q}_max`)}`;
+		return sql`min(array[${t}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_first`)},
+			max(array[${t}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_last`)},
+			min(array[${col}, ${t}]) filter (where ${has}) as ${sql.raw(`${q}_min`)},
+			max(array[${col}, ${t}]) filter (where ${has}) as ${sql.raw(`${q}_max`)}`;
 	});
 	const rows = await db.execute(sql`
-		with r as (
-			select group_id, extract(epoch from taken_at)::float8 * 1000 as t, volts, temp_c, ambient_c, amps
-			from readings where ${where}
-		), span as (select min(t) as lo, greatest(max(t) - min(t), 1) as width from r)
-		select r.group_id as "groupId",
-			least(width_bucket(r.t - span.lo, 0, span.width, ${buckets}::int), ${buckets}::int) as b,
+		select group_id as "groupId",
+			least(width_bucket(${t} - ${span.lo}::float8, 0, ${width}::float8, ${buckets}::int), ${buckets}::int) as b,
 			${sql.join(aggregates, sql`, `)}
-		from r cross join span
-		group by r.group_id, b
-		order by b`);
-	return rows as unknown as BucketRow[];
+		from readings where ${where}
+		group by group_id, b`);
+	return (rows as unknown as BucketRow[]).sort((a, b) => a.b - b.b);
 }
 
 /** The M4 points of one quantity from bucket rows, in time order, without repeats. */
@@ -277,11 +280,42 @@ async function runningStep(
 	};
 }
 
+/**
+ * Chart data per (session, points), kept until the session's next event (every instance listens,
+ * so each drops its own copy when a reading, step or status change commits) or for a minute at
+ * most (an event lost while the LISTEN connection reconnects). Viewers asking at once share one
+ * computation; the cost of a long session is paid once per change, not once per viewer.
+ */
+const CACHE_MS = 60_000;
+const CACHE_ENTRIES = 100;
+const cache = new Map<string, { at: number; value: Promise<SessionSeries> }>();
+let cacheListening: Promise<boolean> | undefined;
+
+function forgetSession(sessionId: string) {
+	for (const key of [...cache.keys()]) if (key.startsWith(`${sessionId}:`)) cache.delete(key);
+}
+
 /** The session's chart data with at most `points` points per line; 404 when the member may not see it. */
 export async function sessionSeries(member: Member, sessionId: string, points = DEFAULT_POINTS): Promise<SessionSeries> {
 	const visible = await findVisibleSession(member, sessionId);
 	if (!visible) error(404, 'Not found');
 	const n = Math.max(10, Math.min(MAX_POINTS, Math.floor(points)));
+	cacheListening ??= onEverySessionEvent((event) => forgetSession(event.sessionId));
+	if (!(await cacheListening)) {
+		cacheListening = undefined;
+		return computeSeries(member, visible, n);
+	}
+	const key = `${visible.id}:${n}`;
+	const hit = cache.get(key);
+	if (hit && Date.now() - hit.at < CACHE_MS) return hit.value;
+	const entry = { at: Date.now(), value: computeSeries(member, visible, n) };
+	cache.set(key, entry);
+	entry.value.catch(() => cache.get(key) === entry && cache.delete(key));
+	if (cache.size > CACHE_ENTRIES) cache.delete(cache.keys().next().value!);
+	return entry.value;
+}
+
+async function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SessionSeries> {
 	const [[row], groups, rows] = await Promise.all([
 		db
 			.select({ limits: chargeSessions.limits, series: packs.series, parallel: packs.parallel, cellSpecId: packs.cellSpecId })
