@@ -10,7 +10,7 @@ import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Tx } from '../db';
 import { chargeSessions, deviceTokens, packGroups, packs, readings, users, type ChargeSession } from '../db/schema';
 import { writeAudit } from './audit';
-import { notifySession, SESSION_EVENTS_CHANNEL, type SessionEvent } from './notify';
+import { notifySession, SESSION_EVENTS_CHANNEL } from './notify';
 
 export type ReadingSource = 'hand' | 'file' | 'device';
 
@@ -153,98 +153,89 @@ export async function logReadings(
 	const enteredBy = actor.kind === 'member' ? actor.member.user.id : null;
 	const tokenId = actor.kind === 'device' ? actor.tokenId : null;
 
-	return db.transaction(async (tx) => {
-		// A key-share lock: batches of one session go in side by side, while a status change
-		// (which locks the row for update) waits for them — and they for it.
-		const [session] = await tx
-			.select({ status: chargeSessions.status })
-			.from(chargeSessions)
-			.where(eq(chargeSessions.id, sessionId))
-			.for('key share');
-		if (!session) return notFound;
-		if (!acceptsReadings[source].has(session.status))
-			return { ok: false as const, status: 409 as const, message: refusedStatus(session.status, source), errors: [] };
+	const allowed = [...acceptsReadings[source]];
+	// Marks a device's token used at most once a minute (no write per post).
+	const markToken =
+		actor.kind === 'device' && (!actor.lastUsedAt || Date.now() - actor.lastUsedAt.getTime() > 60_000)
+			? sql`, tok as (update device_tokens set last_used_at = now() where id = ${actor.tokenId}
+				and (last_used_at is null or last_used_at < now() - interval '1 minute') and exists (select 1 from ins) returning 1)`
+			: sql``;
+	// One statement, so atomic without a transaction and one round trip: a key-share lock on the
+	// session (batches of one session go in side by side, while a status change, which locks the
+	// row for update, waits for them — and they for it), the insert if the status allows it, the
+	// due mark cleared (only written when set), and the notice for live views — the same one
+	// notifySession sends, delivered at commit.
+	const [result] = (await db.execute(sql`
+		with s as (select status from charge_sessions where id = ${sessionId} for key share),
+		ins as (
+				insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,
+					note, source, entered_by, device_token_id, client_id)
+				select distinct on (r.n) ${sessionId}, ${head.packId}, g.id, coalesce(gs.id, ps.id), r.taken_at, r.volts, r.amps,
+					r.temp_c, r.ambient_c, r.note, ${source}::reading_source, ${enteredBy}, ${tokenId}, r.client_id
+				-- Every column goes as text[] (postgres.js serialises text arrays whatever the element type).
+				from (select u.client_id, nullif(u.group_index, '')::int as group_index, u.taken_at::timestamptz as taken_at,
+					u.volts::float8 as volts, u.amps::float8 as amps, u.temp_c::float8 as temp_c,
+					u.ambient_c::float8 as ambient_c, u.note, u.n
+				from unnest(
+					${sql.param(inputs.map((r) => r.clientId))}::text[],
+					${sql.param(inputs.map((r) => String(r.groupIndex ?? '')))}::text[],
+					${sql.param(inputs.map((r) => r.takenAt))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.volts)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.amps)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.tempC)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.ambientC)))}::text[],
+					${sql.param(inputs.map((r) => r.note ?? ''))}::text[]
+				) with ordinality as u(client_id, group_index, taken_at, volts, amps, temp_c, ambient_c, note, n)) r
+				cross join s
+				left join pack_groups g on g.pack_id = ${head.packId} and g.index = r.group_index
+				-- The step running at the reading's time: the group's own (equality join on the group, cheap
+				-- for 100,000 rows), else a whole-pack step (a session has a handful at most).
+				left join session_steps gs on gs.session_id = ${sessionId} and gs.group_id = g.id
+					and gs.actual_start <= r.taken_at and (gs.actual_end is null or gs.actual_end >= r.taken_at)
+				left join session_steps ps on ps.session_id = ${sessionId} and ps.group_id is null
+					and ps.actual_start <= r.taken_at and (ps.actual_end is null or ps.actual_end >= r.taken_at)
+				where s.status::text = any(${sql.param(allowed)}::text[])
+				order by r.n, gs.actual_start desc nulls last, ps.actual_start desc nulls last
+				on conflict (session_id, client_id) do nothing
+				returning client_id, id, taken_at),
+		due as (update charge_sessions set reading_due_at = null
+			where id = ${sessionId} and reading_due_at is not null and exists (select 1 from ins) returning 1)${markToken}
+		select (select status from s) as status,
+			coalesce((select json_agg(json_build_array(client_id, id)) from ins), '[]'::json) as stored,
+			(select pg_notify(${SESSION_EVENTS_CHANNEL}, json_build_object(
+					'sessionId', ${sessionId}::text, 'workshopId', ${head.workshopId}::text, 'kind', 'reading',
+					'count', x.n, 'newest', to_char(x.newest at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"'))::text)
+				from (select count(*) as n, max(taken_at) as newest from ins) x where x.n > 0) as notified`)) as unknown as {
+		status: ChargeSession['status'] | null;
+		stored: [string, number | string][];
+	}[];
 
-		const inserted = (await tx.execute(sql`
-			insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,
-				note, source, entered_by, device_token_id, client_id)
-			select distinct on (r.n) ${sessionId}, ${head.packId}, g.id, coalesce(gs.id, ps.id), r.taken_at, r.volts, r.amps,
-				r.temp_c, r.ambient_c, r.note, ${source}::reading_source, ${enteredBy}, ${tokenId}, r.client_id
-			-- Every column goes as text[] (postgres.js serialises text arrays whatever the element type).
-			from (select u.client_id, nullif(u.group_index, '')::int as group_index, u.taken_at::timestamptz as taken_at,
-				u.volts::float8 as volts, u.amps::float8 as amps, u.temp_c::float8 as temp_c,
-				u.ambient_c::float8 as ambient_c, u.note, u.n
-			from unnest(
-				${sql.param(inputs.map((r) => r.clientId))}::text[],
-				${sql.param(inputs.map((r) => String(r.groupIndex ?? '')))}::text[],
-				${sql.param(inputs.map((r) => r.takenAt))}::text[],
-				${sql.param(inputs.map((r) => numberText(r.volts)))}::text[],
-				${sql.param(inputs.map((r) => numberText(r.amps)))}::text[],
-				${sql.param(inputs.map((r) => numberText(r.tempC)))}::text[],
-				${sql.param(inputs.map((r) => numberText(r.ambientC)))}::text[],
-				${sql.param(inputs.map((r) => r.note ?? ''))}::text[]
-			) with ordinality as u(client_id, group_index, taken_at, volts, amps, temp_c, ambient_c, note, n)) r
-			left join pack_groups g on g.pack_id = ${head.packId} and g.index = r.group_index
-			-- The step running at the reading's time: the group's own (equality join on the group, cheap
-			-- for 100,000 rows), else a whole-pack step (a session has a handful at most).
-			left join session_steps gs on gs.session_id = ${sessionId} and gs.group_id = g.id
-				and gs.actual_start <= r.taken_at and (gs.actual_end is null or gs.actual_end >= r.taken_at)
-			left join session_steps ps on ps.session_id = ${sessionId} and ps.group_id is null
-				and ps.actual_start <= r.taken_at and (ps.actual_end is null or ps.actual_end >= r.taken_at)
-			order by r.n, gs.actual_start desc nulls last, ps.actual_start desc nulls last
-			on conflict (session_id, client_id) do nothing
-			returning client_id, id, taken_at`)) as unknown as { client_id: string; id: string | number; taken_at: string | Date }[];
+	if (!result || result.status === null) return notFound;
+	if (!acceptsReadings[source].has(result.status))
+		return { ok: false, status: 409, message: refusedStatus(result.status, source), errors: [] };
 
-		const idByClient = new Map<string, number>();
-		let newest = 0;
-		for (const row of inserted) {
-			idByClient.set(row.client_id, Number(row.id));
-			newest = Math.max(newest, new Date(row.taken_at).getTime());
-		}
-		const storedIds = new Set(idByClient.keys());
-		const missing = [...new Set(inputs.map((r) => r.clientId).filter((c) => !storedIds.has(c)))];
-		if (missing.length > 0) {
-			// Duplicates: stored before (by an earlier or a concurrent post, which committed before ours went on).
-			const earlier = (await tx.execute(sql`
-				select client_id, id from readings
-				where session_id = ${sessionId} and client_id = any(${sql.param(missing)}::text[])`)) as unknown as {
-				client_id: string;
-				id: string | number;
-			}[];
-			for (const row of earlier) idByClient.set(row.client_id, Number(row.id));
-		}
+	const idByClient = new Map<string, number>(result.stored.map(([clientId, id]) => [clientId, Number(id)]));
+	const storedIds = new Set(idByClient.keys());
+	const missing = [...new Set(inputs.map((r) => r.clientId).filter((c) => !storedIds.has(c)))];
+	if (missing.length > 0) {
+		// Duplicates: stored before (by an earlier or a concurrent post, which committed before ours went on).
+		const earlier = (await db.execute(sql`
+			select client_id, id from readings
+			where session_id = ${sessionId} and client_id = any(${sql.param(missing)}::text[])`)) as unknown as {
+			client_id: string;
+			id: string | number;
+		}[];
+		for (const row of earlier) idByClient.set(row.client_id, Number(row.id));
+	}
 
-		const stored = inserted.length;
-		if (stored > 0) {
-			// Clears a due reading only when one is due (no write otherwise), and marks a device's
-			// token used at most once a minute — both in one round trip with the notice.
-			const markToken =
-				actor.kind === 'device' && (!actor.lastUsedAt || Date.now() - actor.lastUsedAt.getTime() > 60_000)
-					? sql`, t as (update device_tokens set last_used_at = now() where id = ${actor.tokenId}
-						and (last_used_at is null or last_used_at < now() - interval '1 minute') returning 1)`
-					: sql``;
-			// The same notice notifySession sends, in this statement to spare a round trip per post.
-			const notice: SessionEvent = {
-				sessionId,
-				workshopId: head.workshopId,
-				kind: 'reading',
-				count: stored,
-				newest: new Date(newest).toISOString()
-			};
-			await tx.execute(sql`
-				with due as (update charge_sessions set reading_due_at = null
-					where id = ${sessionId} and reading_due_at is not null returning 1)${markToken}
-				select pg_notify(${SESSION_EVENTS_CHANNEL}, ${JSON.stringify(notice)})`);
-		}
-
-		const seen = new Set<string>();
-		const answer = inputs.map((r) => {
-			const duplicate = !storedIds.has(r.clientId) || seen.has(r.clientId);
-			seen.add(r.clientId);
-			return { clientId: r.clientId, id: idByClient.get(r.clientId)!, duplicate };
-		});
-		return { ok: true as const, stored, duplicates: inputs.length - stored, readings: answer };
+	const stored = storedIds.size;
+	const seen = new Set<string>();
+	const answer = inputs.map((r) => {
+		const duplicate = !storedIds.has(r.clientId) || seen.has(r.clientId);
+		seen.add(r.clientId);
+		return { clientId: r.clientId, id: idByClient.get(r.clientId)!, duplicate };
 	});
+	return { ok: true, stored, duplicates: inputs.length - stored, readings: answer };
 }
 
 /** A stored reading as the API and pages show it. */
