@@ -245,6 +245,13 @@ describe('limits', () => {
 		expect(looser.limits.readingIntervalMinutes).toBe(30);
 	});
 
+	it('a watch level above its act-now level is refused beside the field', () => {
+		// Default over-voltage watch for 4.20 V is 4.22 V (set + 20 mV); an act-now level of 4.21 V is below it.
+		expect(mergeLimits(defaults, { overVoltsCritical: '4.21' }, 60).errors).toHaveProperty('limits.overVoltsWarning');
+		expect(mergeLimits(defaults, { overVoltsCritical: '4.21', overVoltsWarning: '4.20' }, 60).errors).toEqual({});
+		expect(mergeLimits(defaults, { tempCriticalC: '40' }, 60).errors).toHaveProperty('limits.tempWarningC');
+	});
+
 	it('a confirmation must name each loosened value', () => {
 		const { loosened } = mergeLimits(defaults, { overVoltsCritical: '4.28', tempWarningC: '50' }, 60);
 		expect(confirmationNamesValues('', loosened)).toBe(false);

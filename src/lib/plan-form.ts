@@ -150,6 +150,18 @@ export function mergeLimits(
 		const isLooser = f.looser === 'higher' ? value > def + 1e-9 : value < def - 1e-9;
 		if (isLooser) loosened.push({ key: f.key, label: f.label, unit: f.unit, defaultValue: def, value });
 	}
+	// A watch level past its act-now level would never be seen first (the server refuses it too).
+	const pairs: [LimitKey, LimitKey, string][] = [
+		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage watch level must not be above the act-now level.'],
+		['tempWarningC', 'tempCriticalC', 'The temperature watch level must not be above the act-now level.'],
+		['driftWarningVolts', 'driftCriticalVolts', 'The spread watch level must not be above the act-now level.']
+	];
+	for (const [watch, actNow, message] of pairs) {
+		if (limits[watch] > limits[actNow] && !errors[`limits.${watch}`] && !errors[`limits.${actNow}`]) errors[`limits.${watch}`] = message;
+	}
+	if (limits.underVoltsWarning >= limits.overVoltsWarning && !errors['limits.underVoltsWarning']) {
+		errors['limits.underVoltsWarning'] = 'The under-voltage level must be below the over-voltage watch level.';
+	}
 	return { limits, overrides, loosened, errors };
 }
 
