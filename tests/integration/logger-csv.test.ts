@@ -81,4 +81,25 @@ describe('logger CSV upload', () => {
 		await expect(post(viewer, csv)).rejects.toMatchObject({ status: 403 });
 		expect(await stored(session.id)).toHaveLength(4);
 	});
+
+	it('refuses a column map with control characters or without a time column, and keeps the saved one', async () => {
+		const { owner, session, ws } = await sessionFixture({ series: 4 });
+		await saveLoggerMapping(owner, mapping);
+		const save = (fields: Record<string, string>) => {
+			const body = new FormData();
+			for (const [k, v] of Object.entries(fields)) body.set(k, v);
+			const url = new URL(`http://127.0.0.1/w/${ws}/sessions/${session.id}/upload?/saveMapping`);
+			return actions.saveMapping({
+				locals: { user: owner.user, session: null },
+				params: { workshop: ws, sessionId: session.id },
+				url,
+				request: new Request(url, { method: 'POST', body })
+			} as unknown as Parameters<typeof actions.saveMapping>[0]);
+		};
+		expect(await save({ time: 'Zeit\u0000', volts: 'Spannung' })).toMatchObject({ status: 400, data: { mappingProblem: expect.stringMatching(/control characters/) } });
+		expect(await save({ time: '', volts: 'Spannung' })).toMatchObject({ status: 400, data: { mappingProblem: expect.stringMatching(/time/) } });
+		expect(await getLoggerMapping(owner)).toEqual(mapping);
+		expect(await save({ time: 'Zeit', volts: 'Spannung', group: '' })).toEqual({ mappingDone: expect.any(String) });
+		expect(await getLoggerMapping(owner)).toEqual({ time: 'Zeit', volts: 'Spannung' });
+	});
 });
