@@ -11,6 +11,7 @@ import { loadDemoIfEmpty } from '$lib/server/demo';
 import { rereadServerEnv } from '$lib/server/env';
 import { runReadingClock } from '$lib/server/jobs/reading-clock';
 import { applyMigrations } from '$lib/server/migrate';
+import { load as loadSessionsPage } from '../../src/routes/(app)/w/[workshop=slug]/sessions/+page.server';
 
 const HOUR = 3_600_000;
 const sharedUrl = process.env.DATABASE_URL!;
@@ -131,5 +132,39 @@ describe('the demo sessions', () => {
 		// The clock finds nothing due right after loading.
 		const clock = await runReadingClock(new Date());
 		expect(clock.marked).not.toContain(s.id);
+	});
+
+	it('lists them on the sessions page: running first, a viewer only the sessions of the pack they own, the clock\'s mark on a late one', async () => {
+		const pageFor = async (email: string) => {
+			const [user] = await db.select({ id: users.id, email: users.email, name: users.name }).from(users).where(eq(users.email, email));
+			const url = new URL('http://127.0.0.1/w/larkfield/sessions');
+			const event = { locals: { user, session: null }, params: { workshop: 'larkfield' }, url };
+			return (await loadSessionsPage(event as unknown as Parameters<typeof loadSessionsPage>[0])) as Exclude<
+				Awaited<ReturnType<typeof loadSessionsPage>>,
+				void
+			>;
+		};
+		const owner = await pageFor('owner@larkfield.test');
+		expect(owner.canPlan).toBe(true);
+		expect(owner.sessions.map((s) => [s.packName, s.status])).toEqual([
+			['Camper house battery', 'running'],
+			['Cargo trike pack', 'done']
+		]);
+		const camper = owner.sessions[0];
+		expect(camper.stepsEnded).toBeGreaterThanOrEqual(2);
+		expect(camper.stepsEnded).toBeLessThan(camper.stepsTotal);
+		expect(camper.readingDueAt).toBeNull();
+
+		// The pack's owner is a viewer: the trike's session only, and no planning.
+		const viewer = await pageFor('viewer@larkfield.test');
+		expect(viewer.canPlan).toBe(false);
+		expect(viewer.sessions.map((s) => s.packName)).toEqual(['Cargo trike pack']);
+
+		// Two hours on with no reading, the clock marks the camper's session and the list shows it.
+		await runReadingClock(new Date(Date.now() + 2 * HOUR));
+		const later = await pageFor('technician@larkfield.test');
+		expect(later.canPlan).toBe(false);
+		expect(later.sessions.find((s) => s.id === camper.id)?.readingDueAt).toBeInstanceOf(Date);
+		expect(later.sessions.find((s) => s.status === 'done')?.readingDueAt).toBeNull();
 	});
 });
