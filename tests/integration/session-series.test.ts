@@ -11,7 +11,7 @@ import type { Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { chargeSessions, packGroups, sessionSteps } from '$lib/server/db/schema';
 import { newId } from '$lib/server/ids';
-import { subscribe, subscriberCount } from '$lib/server/sessions/live';
+import { checkListening, listenerBackendPid, subscribe, subscriberCount } from '$lib/server/sessions/live';
 import { notifySession, type SessionEvent } from '$lib/server/sessions/notify';
 import { plannedCurrent, type SessionSeries } from '$lib/server/sessions/series';
 import { GET as eventsGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/events/+server';
@@ -261,5 +261,19 @@ describe('session events', () => {
 		expect(subscriberCount(session.id)).toBe(1);
 		abort.abort();
 		await expect.poll(() => subscriberCount(session.id)).toBe(0);
+	});
+
+	it('keeps hearing events after the listening connection is cut', async () => {
+		const id = newId();
+		const heard: SessionEvent[] = [];
+		const stop = await subscribe(id, (e) => heard.push(e));
+		const pid = listenerBackendPid();
+		expect(pid).toBeGreaterThan(0);
+		await db.execute(sql`select pg_terminate_backend(${pid}::int)`);
+		await expect.poll(() => listenerBackendPid() !== pid && listenerBackendPid() !== undefined, { timeout: 10_000 }).toBe(true);
+		expect(await checkListening()).toBe(true);
+		await db.transaction((tx) => notifySession(tx, { sessionId: id, workshopId: 'w', kind: 'watch' }));
+		await expect.poll(() => heard.map((e) => e.kind)).toEqual(['watch']);
+		stop();
 	});
 });

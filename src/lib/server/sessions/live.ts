@@ -32,6 +32,7 @@ const everyEvent = new Set<Listener>();
 function deliver(payload: string) {
 	const event = parseEvent(payload);
 	if (!event) return;
+	if (event.sessionId.startsWith('ping:')) return pings.get(event.sessionId)?.();
 	for (const fn of [...everyEvent, ...(subscribers.get(event.sessionId) ?? [])]) {
 		try {
 			fn(event);
@@ -41,15 +42,75 @@ function deliver(payload: string) {
 	}
 }
 
+type ListenHandle = { state: { pid: number }; unlisten: () => Promise<void> };
+let handle: ListenHandle | undefined;
+
 /** Starts the process's one LISTEN (once); a failure is forgotten so that the next subscriber retries. */
 function ensureListening(): Promise<unknown> {
 	listening ??= sqlClient()
 		.listen(SESSION_EVENTS_CHANNEL, deliver)
+		.then((h) => {
+			handle = h as unknown as ListenHandle;
+			startHealthCheck();
+			return h;
+		})
 		.catch((e) => {
 			listening = undefined;
 			throw e;
 		});
 	return listening;
+}
+
+/** The server process holding this process's LISTEN (for tests that cut the connection). */
+export function listenerBackendPid(): number | undefined {
+	return handle?.state.pid;
+}
+
+/**
+ * postgres.js listens again after its connection drops, but gives up silently if the database is
+ * still unreachable at that moment. So every 30 s, while anyone is subscribed, the process sends
+ * itself a ping on the channel; unheard within 10 s, it listens anew and tells every subscriber
+ * to refetch (events may have been lost meanwhile).
+ */
+const PING_EVERY_MS = 30_000;
+const PING_WAIT_MS = 10_000;
+let healthTimer: ReturnType<typeof setInterval> | undefined;
+const pings = new Map<string, () => void>();
+
+function startHealthCheck() {
+	if (healthTimer) return;
+	healthTimer = setInterval(() => void checkListening(), PING_EVERY_MS);
+	healthTimer.unref?.();
+}
+
+export async function checkListening(): Promise<boolean> {
+	if (subscribers.size === 0 && everyEvent.size === 0) return true;
+	const id = `ping:${crypto.randomUUID()}`;
+	const heard = new Promise<boolean>((resolve) => {
+		pings.set(id, () => resolve(true));
+		setTimeout(() => resolve(false), PING_WAIT_MS).unref?.();
+	});
+	try {
+		await sqlClient()`select pg_notify(${SESSION_EVENTS_CHANNEL}, ${JSON.stringify({ sessionId: id, kind: 'ping' })})`;
+	} catch {
+		pings.delete(id);
+		return false; // the database is away: try again at the next tick
+	}
+	const ok = await heard;
+	pings.delete(id);
+	if (ok) return true;
+	const old = handle;
+	handle = undefined;
+	listening = undefined;
+	await old?.unlisten().catch(() => {});
+	try {
+		await ensureListening();
+	} catch {
+		return false;
+	}
+	const resync = (sessionId: string): SessionEvent => ({ sessionId, workshopId: '', kind: 'status' });
+	for (const [sessionId, set] of subscribers) for (const fn of [...everyEvent, ...set]) fn(resync(sessionId));
+	return false;
 }
 
 /**
