@@ -88,7 +88,8 @@ export async function listPacks(member: Member): Promise<PackSummary[]> {
 
 export type PackWriteResult =
 	| { ok: true; pack: Pack; clearedAssignment: boolean }
-	| { ok: false; reason: 'unknown-spec' | 'owner-not-member'; field: 'cellSpecId' | 'packOwnerId'; message: string };
+	| { ok: false; reason: 'unknown-spec' | 'owner-not-member'; field: 'cellSpecId' | 'packOwnerId'; message: string }
+	| { ok: false; reason: 'keeps-shape'; field: 'series' | 'parallel' | 'cellSpecId'; message: string };
 
 async function isMemberOf(tx: Tx | typeof db, workshopId: string, userId: string) {
 	const [row] = await tx
@@ -161,7 +162,8 @@ export async function createPack(member: Member, input: PackInput): Promise<Pack
 export const PACK_KEEPS_SHAPE =
 	'This pack has charge sessions: its groups in series, cells per group and cell spec stay as they are, so that its readings keep their meaning. Make a new pack for another layout.';
 
-async function hasSessions(tx: Tx, packId: string): Promise<boolean> {
+/** True once the pack has a charge session (its shape is then fixed). */
+export async function hasSessions(tx: Tx | typeof db, packId: string): Promise<boolean> {
 	const [row] = await tx.select({ id: chargeSessions.id }).from(chargeSessions).where(eq(chargeSessions.packId, packId)).limit(1);
 	return Boolean(row);
 }
@@ -187,7 +189,10 @@ export async function updatePack(member: Member, packId: string, input: Partial<
 			series !== current.series ||
 			(input.parallel ?? current.parallel) !== current.parallel ||
 			(input.cellSpecId ?? current.cellSpecId) !== current.cellSpecId;
-		if (topologyChanged && (await hasSessions(tx, packId))) error(409, PACK_KEEPS_SHAPE);
+		if (topologyChanged && (await hasSessions(tx, packId))) {
+			const field = series !== current.series ? 'series' : (input.parallel ?? current.parallel) !== current.parallel ? 'parallel' : 'cellSpecId';
+			return { ok: false as const, reason: 'keeps-shape' as const, field, message: PACK_KEEPS_SHAPE };
+		}
 		let clearedAssignment = false;
 		if (topologyChanged) {
 			const cleared = await tx

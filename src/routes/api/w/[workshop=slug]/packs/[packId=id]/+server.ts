@@ -18,6 +18,10 @@ export const PATCH: RequestHandler = endpoint(async (event) => {
 	const input = await readJson(request, packPatchSchema);
 	if (input instanceof Response) return input;
 	const result = await updatePack(member, params.packId, input);
-	if (!result.ok) return problem(400, { message: result.message, errors: [{ path: result.field, message: result.message }] });
+	if (!result.ok) {
+		// A pack with charge sessions keeps its shape: a conflict with what is recorded, not bad input.
+		const status = result.reason === 'keeps-shape' ? 409 : 400;
+		return problem(status, { message: result.message, reason: result.reason, errors: [{ path: result.field, message: result.message }] });
+	}
 	return json({ pack: result.pack, clearedAssignment: result.clearedAssignment });
 });

@@ -2,7 +2,8 @@ import { redirect } from '@sveltejs/kit';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listCellSpecs } from '$lib/server/cell-specs';
 import { fail, setError, superValidate, zod4 } from '$lib/server/forms';
-import { packOwnerChoices, requirePack, updatePack } from '$lib/server/packs';
+import { hasSessions, packOwnerChoices, PACK_KEEPS_SHAPE, requirePack, updatePack } from '$lib/server/packs';
+import { db } from '$lib/server/db';
 import { packSchema } from '$lib/schemas/packs';
 import type { Actions, PageServerLoad } from './$types';
 import { guardActions } from '$lib/server/input-problems';
@@ -10,12 +11,13 @@ import { guardActions } from '$lib/server/input-problems';
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const member = await requireMemberWith(locals, params, url, 'packs.edit');
 	const pack = await requirePack(member, params.packId);
-	const [specs, owners, form] = await Promise.all([
+	const [specs, owners, form, shapeFixed] = await Promise.all([
 		listCellSpecs(member),
 		packOwnerChoices(member),
-		superValidate({ ...pack, packOwnerId: pack.packOwnerId ?? '' }, zod4(packSchema))
+		superValidate({ ...pack, packOwnerId: pack.packOwnerId ?? '' }, zod4(packSchema)),
+		hasSessions(db, pack.id)
 	]);
-	return { form, specs, owners, packName: pack.name, packId: pack.id };
+	return { form, specs, owners, packName: pack.name, packId: pack.id, shapeNote: shapeFixed ? PACK_KEEPS_SHAPE : null };
 };
 
 export const actions: Actions = guardActions<Actions>({
