@@ -10,6 +10,7 @@ import { auditEvents, chargeSessions, packGroups, packs, readings, sessionSteps,
 import { loadDemoIfEmpty } from '$lib/server/demo';
 import { rereadServerEnv } from '$lib/server/env';
 import { runReadingClock } from '$lib/server/jobs/reading-clock';
+import type { SessionListItem } from '$lib/server/sessions/core';
 import { applyMigrations } from '$lib/server/migrate';
 import { load as loadSessionsPage } from '../../src/routes/(app)/w/[workshop=slug]/sessions/+page.server';
 
@@ -139,10 +140,10 @@ describe('the demo sessions', () => {
 			const [user] = await db.select({ id: users.id, email: users.email, name: users.name }).from(users).where(eq(users.email, email));
 			const url = new URL('http://127.0.0.1/w/larkfield/sessions');
 			const event = { locals: { user, session: null }, params: { workshop: 'larkfield' }, url };
-			return (await loadSessionsPage(event as unknown as Parameters<typeof loadSessionsPage>[0])) as Exclude<
-				Awaited<ReturnType<typeof loadSessionsPage>>,
-				void
-			>;
+			return (await loadSessionsPage(event as unknown as Parameters<typeof loadSessionsPage>[0])) as {
+				canPlan: boolean;
+				sessions: (SessionListItem & { readingDueAt: Date | null })[];
+			};
 		};
 		const owner = await pageFor('owner@larkfield.test');
 		expect(owner.canPlan).toBe(true);
