@@ -192,8 +192,11 @@ function hookShutdown() {
 	const endAll = () => {
 		for (const end of [...openStreams]) end();
 	};
-	process.once('SIGTERM', endAll);
-	process.once('SIGINT', endAll);
+	// Only beside a handler that already exists (adapter-node's): a lone listener would stop the
+	// signal's default exit.
+	for (const signal of ['SIGTERM', 'SIGINT'] as const) {
+		if (process.listenerCount(signal) > 0) process.once(signal, endAll);
+	}
 }
 
 function frame(event: SessionEvent): string {
