@@ -48,9 +48,9 @@ async function planned(member: Member, input: Record<string, unknown>) {
 }
 
 /** The trike's top balance: four channels, from 18:30 into the night with a night watch, 35 days ago. */
-async function planTrike(people: People, packId: string, chargerId: string) {
+async function planTrike(people: People, packId: string, chargerId: string, now: Date) {
 	const tz = people.builder.workshop.timeZone;
-	const day = localDate(new Date(Date.now() - TRIKE_DAYS_AGO * DAY), tz);
+	const day = localDate(new Date(now.getTime() - TRIKE_DAYS_AGO * DAY), tz);
 	const nextDay = localDate(new Date(wallTime(day, '12:00', tz).getTime() + DAY), tz);
 	return planned(people.builder, {
 		packId,
@@ -353,7 +353,7 @@ export async function loadDemoSessions(slug: string, emails: DemoEmails, now = n
 	const bench = trikeCtx.chargers.find((c) => c.kind === 'bench-supply');
 	if (!hobby || !bench || bench.channels.length === 0) throw new Error('demo: chargers missing');
 
-	const trike = await planTrike(people, trikePack.id, hobby.id);
+	const trike = await planTrike(people, trikePack.id, hobby.id, now);
 	const camper = await planCamper(people, camperPack.id, bench.id, bench.channels[0].id, camperCtx, now);
 
 	const rand = seeded(20261203);
