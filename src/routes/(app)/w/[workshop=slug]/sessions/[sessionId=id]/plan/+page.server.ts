@@ -18,26 +18,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		status: s.status,
 		packName: detail.pack.name,
 		context,
-		saved: {
-			packId: s.packId,
-			name: s.name,
-			kind: s.kind,
-			target: s.target,
-			targetVolts: s.targetVolts,
-			amps: s.amps,
-			chargerId: s.chargerId,
-			channelIds: s.channelIds,
-			topUpChannelId: s.topUpChannelId,
-			bleedLoad: s.bleedLoad ?? null,
-			restHours: s.restHours,
-			swapMinutes: s.swapMinutes,
-			plannedStart: s.plannedStart,
-			handsOn: s.handsOn,
-			readingIntervalMinutes: s.readingIntervalMinutes,
-			limitsConfirmation: s.limitsConfirmation,
-			startVolts: s.startVolts,
-			watchUserId: s.watchUserId
-		},
+		// The row's plan fields fill the form (formValuesFrom reads what it needs).
+		saved: { ...s, startVolts: { ...(context?.startVolts ?? {}), ...s.startVolts } },
 		overrides
 	};
 };
