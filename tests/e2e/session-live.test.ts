@@ -91,6 +91,8 @@ test('a second browser receives a new reading as a server-sent event and charts 
 	// The second browser: its own sign-in, the run screen open and connected for live updates.
 	const desk = await browser.newContext(phone);
 	const watcher = await desk.newPage();
+	const pageErrors: string[] = [];
+	watcher.on('pageerror', (e) => pageErrors.push(e.message));
 	await postForm(watcher.request, baseURL!, '/login', { email, password: PASSWORD, next: '' });
 	await watcher.goto(`/w/${slug}/sessions/${sessionId}`);
 	const summary = watcher.getByTestId('volts-summary');
@@ -128,6 +130,7 @@ test('a second browser receives a new reading as a server-sent event and charts 
 	await expect(summary).toContainText('lowest G1 3.655');
 	expect(await watcher.evaluate(() => (window as unknown as { untouched?: boolean }).untouched)).toBe(true);
 	await expect(watcher.getByRole('img', { name: 'Chart of volts per cell by group over time' })).toBeVisible();
+	expect(pageErrors).toEqual([]);
 
 	await bench.close();
 	await desk.close();
