@@ -147,4 +147,22 @@ describe('the run view', () => {
 		expect(view.restRequests).toEqual([]);
 		expect(view.expectedEnd).toBe(t('10:45').toISOString());
 	});
+
+	it('reads a whole-pack step from the pack’s own readings, divided by the groups in series', () => {
+		// The pack charger holds 16.80 V over 4 groups (4.20 V per cell); the pack reads 16.78 V
+		// (4.195 V per cell, within 30 mV of the set voltage: CV) while the current halves every hour.
+		// As above: 0.237 h left at 11:00.
+		const pack = (at: string, amps: number) => ({ ...reading(null, at, { volts: 16.78, amps }), stepId: 'p1' });
+		const view = buildRunView(
+			input({
+				steps: [step(1, null, '08:00', '12:00', { id: 'p1', setVolts: 16.8, status: 'running', actualStart: t('08:00') })],
+				readings: [pack('08:30', 2), pack('09:30', 1), pack('10:30', 0.5)]
+			})
+		);
+		expect(view.running[0].nowText).toBe('The whole pack on the charger: 16.80\u2009V, 3\u2009A');
+		expect(view.timeToFull[0]).toMatchObject({ basis: 'readings', phase: 'cv' });
+		expect(view.timeToFull[0].hours).toBeCloseTo(0.237, 2);
+		expect(view.tiles.every((g) => g.charging)).toBe(true);
+		expect(view.pack!.perCell).toBeCloseTo(4.195, 6);
+	});
 });
