@@ -200,11 +200,13 @@ describe('session chart data', () => {
 		]);
 	});
 
-	it('answers 404 to a viewer who does not own the pack and 400 to a bad points value', async () => {
+	it('answers empty lines before the first reading, 404 to a viewer who does not own the pack and 400 to a bad points value', async () => {
 		const { owner, pack } = await packFixture({ series: 2, parallel: 1 });
 		const session = await sessionOf(owner, pack.id);
 		const viewer = await joinAs(owner, 'viewer');
 		await expect(getSeries(viewer, session.id)).rejects.toMatchObject({ status: 404 });
+		const empty = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
+		expect(empty).toMatchObject({ from: null, to: null, volts: [], spread: [], temps: [], step: null });
 		const events = apiEvent(viewer, `/api/w/${owner.workshop.slug}/sessions/${session.id}/events`, { workshop: owner.workshop.slug, sessionId: session.id });
 		await expect(eventsGet(events as never)).rejects.toMatchObject({ status: 404 });
 		for (const bad of ['5000', '3', 'abc', '1.5']) {
