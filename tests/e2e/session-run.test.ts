@@ -1,9 +1,27 @@
 import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { signUp, uniqueEmail } from './helpers';
+import { PASSWORD, linkFromMailbox, signOut, signUp, uniqueEmail } from './helpers';
 
-// The technician's run screen on a phone: start, log a round, lose the connection, log another
-// round (it waits on the phone), come back and see it saved exactly once.
+// The technician's run screen on a phone: the builder plans and starts the session, a technician
+// takes the watch, starts the step, logs a round, loses the connection, logs another round (it
+// waits on the phone), comes back and sees it saved exactly once, and stops the session.
 test.use({ viewport: { width: 390, height: 844 } });
+
+/** The owner invites a technician, who joins through the e-mailed link (left signed in as the technician). */
+async function joinTechnician(page: Page, slug: string) {
+	const email = uniqueEmail('tech');
+	await page.goto(`/w/${slug}/workshop/members`);
+	await page.getByLabel('Their e-mail').fill(email);
+	await page.getByLabel('Role', { exact: true }).selectOption('technician');
+	await page.getByRole('button', { name: 'Send invitation' }).click();
+	await expect(page.getByRole('status')).toContainText(`Invitation sent to ${email}`);
+	await signOut(page);
+	await page.goto(await linkFromMailbox(page, email, '/invite/'));
+	await page.getByRole('link', { name: /create my account/ }).click();
+	await page.getByLabel('Your name').fill('Tam Technician');
+	await page.getByLabel('Password').fill(PASSWORD);
+	await page.getByRole('button', { name: 'Join the workshop' }).click();
+	await expect(page).toHaveURL(new RegExp(`/w/${slug}/packs$`));
+}
 
 /** A 4S1P NMC pack with its cells placed, a one-channel bench supply and a planned session, over the JSON API. */
 async function plannedSession(page: Page, slug: string) {
@@ -73,6 +91,13 @@ test('a technician runs a session on a phone and logs readings through a dropped
 	const slug = await signUp(page, { name: 'Rae Runner', email: uniqueEmail('runner'), workshop: 'Rae Bench' });
 	const sessionId = await plannedSession(page, slug);
 
+	await page.goto(`/w/${slug}/sessions/${sessionId}`);
+	await expect(page.getByRole('heading', { name: 'First charge' })).toBeVisible();
+	await expect(page.getByText('Connect the leads to group 1, set 4.20\u2009V and 2\u2009A')).toBeVisible();
+	await page.getByRole('button', { name: 'Start session' }).click();
+	await expect(page.getByText('Running', { exact: true })).toBeVisible();
+
+	await joinTechnician(page, slug);
 	// A second, separate client counts what the server holds (the page's own offline mode does
 	// not stop a service worker's fetches, so the server is the witness).
 	const witness = await playwrightRequest.newContext({ baseURL, storageState: await page.context().storageState() });
@@ -83,10 +108,10 @@ test('a technician runs a session on a phone and logs readings through a dropped
 	};
 
 	await page.goto(`/w/${slug}/sessions/${sessionId}`);
-	await expect(page.getByRole('heading', { name: 'First charge' })).toBeVisible();
-	await page.getByRole('button', { name: 'Start session' }).click();
-	await expect(page.getByText('Running', { exact: true })).toBeVisible();
-	await expect(page.getByText('Connect the leads to group 1, set 4.20\u2009V and 2\u2009A')).toBeVisible();
+	const watch = page.getByRole('region', { name: 'Watch' });
+	await expect(watch).toContainText('On watch: Rae Runner');
+	await watch.getByRole('button', { name: 'I’m taking the watch' }).click();
+	await expect(watch).toContainText('On watch: you');
 	await page.getByRole('button', { name: 'Start step' }).click();
 	await expect(page.getByText('Group 1 on the charger: 4.20\u2009V, 2\u2009A')).toBeVisible();
 
@@ -115,7 +140,7 @@ test('a technician runs a session on a phone and logs readings through a dropped
 	expect(await stored()).toEqual([3.598, 3.599, 3.6, 3.601, 3.61, 3.612, 3.7, 3.71]);
 	await expect(g1).toContainText('3.710\u2009V');
 
-	// Safety first: the technician may stop at once, with a reason.
+	// Safety first: a technician may stop at once, with a reason.
 	await page.getByRole('button', { name: 'Stop…' }).click();
 	await page.getByLabel('Why does the session stop?').fill('Group 1 felt warm');
 	await page.getByRole('button', { name: 'Stop the session' }).click();
