@@ -104,8 +104,10 @@ start_database() {
 
 # The built app with the bench's environment: its own data folder, the demo (loaded into the empty
 # database), no background jobs (they would add load of their own), the bare route on.
+# Only ever run in the background (`server_env … &`): `exec` makes $! the server's own PID, so
+# stop_pid stops the server and not just the subshell around it.
 server_env() {
-	env -u CELLSITTER_FAKES -u FAKES_URL -u SMTP_URL \
+	exec env -u CELLSITTER_FAKES -u FAKES_URL -u SMTP_URL \
 		DATABASE_URL="$BENCH_DATABASE_URL" HOST=127.0.0.1 CELLSITTER_DATA_DIR="$WORK/data" \
 		CELLSITTER_DEMO=1 CELLSITTER_DEMO_PASSWORD="bench-$(node -e 'console.log(require("node:crypto").randomBytes(9).toString("base64url"))')" \
 		CELLSITTER_JOBS=off CELLSITTER_BENCH=1 BODY_SIZE_LIMIT=12M "$@"
