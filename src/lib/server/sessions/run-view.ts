@@ -229,11 +229,17 @@ export function buildRunView(input: RunInput): RunView {
 	const ambientC = newestWith(readings, (r) => r.ambientC)?.ambientC ?? undefined;
 	const groupIds = groups.map((g) => g.id);
 	const chargingIds = groupIds.filter((id) => chargingGroupIds.has(id));
+	const wholePackCharging = runningSteps.some((s) => s.groupId === null && CHARGING_ROLES.has(s.role));
+	const stillToCharge = new Set(ordered.filter((s) => s.groupId !== null && (s.status === 'waiting' || s.status === 'running')).map((s) => s.groupId));
+	const driftIds = wholePackCharging ? groupIds : groupIds.filter((id) => !stillToCharge.has(id));
 	const terminationAmps = pack.chemistry.terminationC * pack.cellCapacityAh * pack.parallel;
 	const alerts: AlertDraft[] = limits
 		? [
-				// Limits of volts and temperature and the drift between groups, whatever charges.
-				...evaluateReadings({ limits, latest: latestOf(groupIds), ambientC, charging: false, now }),
+				// Limits of volts and temperature, whatever charges.
+				...evaluateReadings({ limits, latest: latestOf(groupIds), ambientC, charging: false, now }).filter((a) => a.kind !== 'drift'),
+				// Drift only between groups in the same state: a group on the charger, or still waiting
+				// for its turn, is meant to differ from the charged ones.
+				...evaluateReadings({ limits, latest: latestOf(driftIds), charging: false, now }).filter((a) => a.kind === 'drift'),
 				// What only applies while a group charges: cold charge, heat rise, current down to the end.
 				...evaluateReadings({
 					limits,
