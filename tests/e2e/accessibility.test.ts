@@ -1,6 +1,6 @@
 import AxeBuilder from '@axe-core/playwright';
 import { expect, test, type Page } from '@playwright/test';
-import { signUp, uniqueEmail } from './helpers';
+import { plannedSession, signUp, uniqueEmail } from './helpers';
 
 // WCAG 2 A/AA rules checked by axe-core; in the dark theme only contrast, which is all a theme
 // changes (look.md asks for AA contrast in both).
@@ -59,4 +59,16 @@ test('the pages a builder uses pass axe in light and dark', async ({ page }) => 
 	]) {
 		await expectAccessible(page, path);
 	}
+});
+
+test('the session pages pass axe in light and dark, the run screen on a phone too', async ({ page }) => {
+	test.setTimeout(300_000);
+	const slug = await signUp(page, { name: 'Sam Session', email: uniqueEmail('a11y-session'), workshop: 'Session Access Bench' });
+	const sessionId = await plannedSession(page, slug);
+	const session = `/w/${slug}/sessions/${sessionId}`;
+	for (const path of [`/w/${slug}/sessions`, `/w/${slug}/sessions/new`, session, `${session}/plan`, `${session}/upload`, `${session}/devices`]) {
+		await expectAccessible(page, path);
+	}
+	await page.setViewportSize({ width: 390, height: 844 });
+	await expectAccessible(page, session);
 });

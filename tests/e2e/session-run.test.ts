@@ -1,5 +1,5 @@
-import { expect, request as playwrightRequest, test, type APIRequestContext, type Page } from '@playwright/test';
-import { PASSWORD, linkFromMailbox, signOut, signUp, uniqueEmail } from './helpers';
+import { expect, request as playwrightRequest, test, type Page } from '@playwright/test';
+import { PASSWORD, linkFromMailbox, plannedSession, signOut, signUp, uniqueEmail } from './helpers';
 
 // The technician's run screen on a phone: the builder plans and starts the session, a technician
 // takes the watch, starts the step, logs a round, loses the connection, logs another round (it
@@ -21,60 +21,6 @@ async function joinTechnician(page: Page, slug: string) {
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByRole('button', { name: 'Join the workshop' }).click();
 	await expect(page).toHaveURL(new RegExp(`/w/${slug}/packs$`));
-}
-
-/** A 4S1P NMC pack with its cells placed, a one-channel bench supply and a planned session, over the JSON API. */
-async function plannedSession(page: Page, slug: string) {
-	await page.goto(`/w/${slug}/cell-specs/new`);
-	await page.getByLabel('Name').fill('Run 21700');
-	await page.getByLabel('Chemistry').selectOption('builtin:nmc');
-	await page.getByLabel('Capacity (Ah)').fill('4');
-	await page.getByLabel('Max charge current (A)').fill('4');
-	await page.getByLabel('Max continuous discharge (A)').fill('15');
-	await page.getByLabel('Max burst discharge (A)').fill('30');
-	await page.getByRole('button', { name: 'Save cell spec' }).click();
-	await expect(page.getByRole('cell', { name: 'Run 21700' })).toBeVisible();
-
-	await page.goto(`/w/${slug}/packs/new`);
-	await page.getByLabel('Pack name').fill('Run trial');
-	await page.getByLabel('Groups in series (S)').fill('4');
-	await page.getByLabel('Cells per group (P)').fill('1');
-	await page.getByRole('button', { name: 'Create pack' }).click();
-	await expect(page.getByRole('heading', { name: 'Run trial' })).toBeVisible();
-	const packId = new URL(page.url()).pathname.split('/')[4];
-
-	const api = page.request;
-	const ok = async <T>(response: Awaited<ReturnType<APIRequestContext['post']>>): Promise<T> => {
-		expect(response.ok(), await response.text()).toBe(true);
-		return (await response.json()) as T;
-	};
-	const volts = [3.61, 3.6, 3.62, 3.59];
-	await ok(await api.post(`/api/w/${slug}/packs/${packId}/cells`, { data: { cells: volts.map((v, i) => ({ label: `R${i + 1}`, volts: v })) } }));
-	const proposal = await ok<{ groups: { cellIds: string[] }[]; version: string }>(await api.post(`/api/w/${slug}/packs/${packId}/matching`, { data: {} }));
-	await ok(
-		await api.put(`/api/w/${slug}/packs/${packId}/matching`, {
-			data: { groups: proposal.groups.map((g) => g.cellIds), version: proposal.version }
-		})
-	);
-	const { charger } = await ok<{ charger: { id: string; channels: { id: string }[] } }>(
-		await api.post(`/api/w/${slug}/chargers`, {
-			data: { name: 'Bench supply', kind: 'bench-supply', channels: [{ name: 'Output', maxVolts: 30, maxAmps: 5 }] }
-		})
-	);
-	const { session } = await ok<{ session: { id: string } }>(
-		await api.post(`/api/w/${slug}/sessions`, {
-			data: {
-				packId,
-				kind: 'one-at-a-time',
-				chargerId: charger.id,
-				channelIds: [charger.channels[0].id],
-				amps: 2,
-				plannedStart: new Date().toISOString(),
-				name: 'First charge'
-			}
-		})
-	);
-	return session.id;
 }
 
 async function logRound(page: Page, volts: string[]) {
