@@ -79,34 +79,177 @@ type Quantity = 'volts' | 'temp_c' | 'ambient_c' | 'amps';
 type BucketRow = { groupId: string | null; b: number } & Record<string, number[] | null>;
 
 /**
- * One row per (group, bucket) with `<q>_first`, `<q>_last` ([t, v]) and `<q>_min`, `<q>_max`
- * ([v, t]) for each quantity: PostgreSQL compares arrays element by element, so min/max of
- * [t, v] and [v, t] pick whole points in one pass over the index range.
+ * Buckets have a fixed width from a ladder, BASE_MS·2^level, aligned to the epoch: the width depends
+ * on the time span only (the smallest level at which the span fits in `cap` buckets), never on how
+ * many readings there are, so a bucket's content is the same whether it was built in one query or
+ * folded in reading by reading. When the span outgrows the cap, neighbouring pairs merge exactly.
  */
-async function bucketed(where: SQL, quantities: Quantity[], buckets: number): Promise<BucketRow[]> {
-	// The span from the (session, taken_at) index: two probes, so the big query is a single pass.
-	const [span] = (await db.execute(sql`
-		select date_part('epoch', min(taken_at)) * 1000 as lo, date_part('epoch', max(taken_at)) * 1000 as hi
-		from readings where ${where}`)) as unknown as { lo: number | null; hi: number | null }[];
-	if (span?.lo === null || span?.lo === undefined || span.hi === null) return [];
-	const width = Math.max(span.hi - span.lo, 1);
-	// date_part gives float8 directly (extract() is numeric since PostgreSQL 14, several times slower).
-	const t = sql.raw(`(date_part('epoch', taken_at) * 1000)`);
-	const aggregates = quantities.map((q) => {
+const BASE_MS = 1000;
+/** Per quantity: first [t, v], last [t, v], min [v, t], max [v, t]; NaN while the bucket has none. */
+const SLOTS = 8;
+
+const secondOf = (t: number) => Math.floor(t / BASE_MS);
+const bucketOf = (t: number, level: number) => Math.floor(secondOf(t) / 2 ** level);
+
+/**
+ * Folds one point into a bucket's slots for one quantity. Ties break as PostgreSQL's min/max of
+ * arrays do (first = least [t, v], min = least [v, t]…), so the result does not depend on order.
+ */
+function foldPoint(a: Float64Array, o: number, t: number, v: number) {
+	if (Number.isNaN(a[o])) {
+		a[o] = a[o + 2] = a[o + 5] = a[o + 7] = t;
+		a[o + 1] = a[o + 3] = a[o + 4] = a[o + 6] = v;
+		return;
+	}
+	if (t < a[o] || (t === a[o] && v < a[o + 1])) (a[o] = t), (a[o + 1] = v);
+	if (t > a[o + 2] || (t === a[o + 2] && v > a[o + 3])) (a[o + 2] = t), (a[o + 3] = v);
+	if (v < a[o + 4] || (v === a[o + 4] && t < a[o + 5])) (a[o + 4] = v), (a[o + 5] = t);
+	if (v > a[o + 6] || (v === a[o + 6] && t > a[o + 7])) (a[o + 6] = v), (a[o + 7] = t);
+}
+
+/**
+ * First, last, lowest and highest point of each quantity per group and bucket (M4 aggregation:
+ * everything a line drawn at that width can show, and every spike's extreme), for one set of
+ * readings. At most `cap` buckets per group whatever the number of readings.
+ */
+export class Buckets {
+	level = 0;
+	lo = Infinity;
+	hi = -Infinity;
+	readonly groups = new Map<string | null, Map<number, Float64Array>>();
+
+	constructor(
+		readonly quantities: Quantity[],
+		readonly cap: number
+	) {}
+
+	/** The smallest level at which [lo, hi] fits in `cap` buckets. */
+	levelFor(lo: number, hi: number): number {
+		let level = 0;
+		while (bucketOf(hi, level) - bucketOf(lo, level) + 1 > this.cap) level++;
+		return level;
+	}
+
+	private bucket(groupId: string | null, b: number): Float64Array {
+		let group = this.groups.get(groupId);
+		if (!group) this.groups.set(groupId, (group = new Map()));
+		let a = group.get(b);
+		if (!a) group.set(b, (a = new Float64Array(this.quantities.length * SLOTS).fill(NaN)));
+		return a;
+	}
+
+	/** Halves the resolution: buckets 2i and 2i+1 become bucket i; their extremes merge exactly. */
+	private coarsen() {
+		this.level++;
+		for (const [groupId, group] of this.groups) {
+			const merged = new Map<number, Float64Array>();
+			this.groups.set(groupId, merged);
+			for (const [b, a] of group) {
+				const into = merged.get(Math.floor(b / 2));
+				if (!into) merged.set(Math.floor(b / 2), a);
+				else for (let q = 0; q < this.quantities.length; q++) mergeSlots(into, a, q * SLOTS);
+			}
+		}
+	}
+
+	/** One reading; `values` in the order of `quantities` (null: not read). */
+	fold(groupId: string | null, t: number, values: (number | null)[]) {
+		this.lo = Math.min(this.lo, t);
+		this.hi = Math.max(this.hi, t);
+		const need = this.levelFor(this.lo, this.hi);
+		while (this.level < need) this.coarsen();
+		if (values.every((v) => v === null)) return;
+		const a = this.bucket(groupId, bucketOf(t, this.level));
+		values.forEach((v, q) => v !== null && foldPoint(a, q * SLOTS, t, v));
+	}
+
+	/** Replaces the content with what PostgreSQL aggregated at `level` (see `bucketsFromSql`). */
+	load(lo: number, hi: number, level: number, rows: BucketRow[]) {
+		this.groups.clear();
+		this.lo = lo;
+		this.hi = hi;
+		this.level = level;
+		for (const row of rows) {
+			this.quantities.forEach((q, i) => {
+				const [first, last, min, max] = [row[`${q}_first`], row[`${q}_last`], row[`${q}_min`], row[`${q}_max`]];
+				if (!first || !last || !min || !max) return;
+				this.bucket(row.groupId, row.b).set([first[0], first[1], last[0], last[1], min[0], min[1], max[0], max[1]], i * SLOTS);
+			});
+		}
+	}
+
+	/** Rows in bucket order, in the shape m4Points and spreadOverTime read. */
+	rows(): BucketRow[] {
+		const out: BucketRow[] = [];
+		for (const [groupId, group] of this.groups) {
+			for (const [b, a] of group) {
+				const row: BucketRow = { groupId, b } as BucketRow;
+				this.quantities.forEach((q, i) => {
+					const o = i * SLOTS;
+					const has = !Number.isNaN(a[o]);
+					row[`${q}_first`] = has ? [a[o], a[o + 1]] : null;
+					row[`${q}_last`] = has ? [a[o + 2], a[o + 3]] : null;
+					row[`${q}_min`] = has ? [a[o + 4], a[o + 5]] : null;
+					row[`${q}_max`] = has ? [a[o + 6], a[o + 7]] : null;
+				});
+				out.push(row);
+			}
+		}
+		return out.sort((a, b) => a.b - b.b);
+	}
+
+	get size(): number {
+		let n = 0;
+		for (const group of this.groups.values()) n += group.size;
+		return n;
+	}
+}
+
+function mergeSlots(into: Float64Array, from: Float64Array, o: number) {
+	if (Number.isNaN(from[o])) return;
+	foldPoint(into, o, from[o], from[o + 1]);
+	foldPoint(into, o, from[o + 2], from[o + 3]);
+	foldPoint(into, o, from[o + 5], from[o + 4]);
+	foldPoint(into, o, from[o + 7], from[o + 6]);
+}
+
+// date_part gives float8 directly (extract() is numeric since PostgreSQL 14, several times slower);
+// the same expression feeds the one-query build and the reading-by-reading catch-up, so both see
+// the same numbers and cut them into the same buckets.
+const T = sql.raw(`(date_part('epoch', taken_at) * 1000)`);
+
+type Runner = Pick<typeof db, 'execute'>;
+
+/**
+ * Builds `into` from all readings matching `where` in one pass: the span from the (session,
+ * taken_at) index (two probes), then one row per (group, bucket) with `<q>_first`, `<q>_last`
+ * ([t, v]) and `<q>_min`, `<q>_max` ([v, t]): PostgreSQL compares arrays element by element, so
+ * min/max of [t, v] and [v, t] pick whole points. Answers the readings' count and highest id.
+ */
+async function bucketsFromSql(run: Runner, into: Buckets, where: SQL): Promise<{ count: number; maxId: bigint }> {
+	const [span] = (await run.execute(sql`
+		select min(${T}) as lo, max(${T}) as hi, count(*)::int as count, coalesce(max(id), 0)::text as "maxId"
+		from readings where ${where}`)) as unknown as { lo: number | null; hi: number | null; count: number; maxId: string }[];
+	if (span.lo === null || span.hi === null) {
+		into.load(Infinity, -Infinity, 0, []);
+		return { count: 0, maxId: BigInt(span.maxId) };
+	}
+	const level = into.levelFor(span.lo, span.hi);
+	const aggregates = into.quantities.map((q) => {
 		const col = sql.raw(q);
 		const has = sql`${col} is not null`;
-		return sql`min(array[${t}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_first`)},
-			max(array[${t}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_last`)},
-			min(array[${col}, ${t}]) filter (where ${has}) as ${sql.raw(`${q}_min`)},
-			max(array[${col}, ${t}]) filter (where ${has}) as ${sql.raw(`${q}_max`)}`;
+		return sql`min(array[${T}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_first`)},
+			max(array[${T}, ${col}]) filter (where ${has}) as ${sql.raw(`${q}_last`)},
+			min(array[${col}, ${T}]) filter (where ${has}) as ${sql.raw(`${q}_min`)},
+			max(array[${col}, ${T}]) filter (where ${has}) as ${sql.raw(`${q}_max`)}`;
 	});
-	const rows = await db.execute(sql`
-		select group_id as "groupId",
-			least(width_bucket(${t} - ${span.lo}::float8, 0, ${width}::float8, ${buckets}::int), ${buckets}::int) as b,
+	const rows = await run.execute(sql`
+		select group_id as "groupId", floor(floor(${T} / ${BASE_MS}::float8) / ${2 ** level}::float8) as b,
 			${sql.join(aggregates, sql`, `)}
 		from readings where ${where}
 		group by group_id, b`);
-	return (rows as unknown as BucketRow[]).sort((a, b) => a.b - b.b);
+	into.load(span.lo, span.hi, level, rows as unknown as BucketRow[]);
+	return { count: span.count, maxId: BigInt(span.maxId) };
 }
 
 /** The M4 points of one quantity from bucket rows, in time order, without repeats. */
@@ -208,7 +351,8 @@ async function runningStep(
 	member: Member,
 	session: { id: string; packId: string },
 	pack: { series: number; parallel: number; cellSpecId: string },
-	points: number
+	points: number,
+	state: SeriesState
 ): Promise<StepSeries | null> {
 	const [step] = await db
 		.select({ step: sessionSteps, groupIndex: packGroups.index })
@@ -224,7 +368,7 @@ async function runningStep(
 	const groupMatch = s.groupId === null ? sql`group_id is null` : sql`group_id = ${s.groupId}`;
 	const where = sql`session_id = ${session.id} and ${groupMatch} and taken_at >= ${start.toISOString()}::timestamptz`;
 	const [rows, recent] = await Promise.all([
-		bucketed(where, ['amps'], points * 2),
+		stepRows(state, { key: `${s.id}:${start.getTime()}:${s.groupId}`, groupId: s.groupId, from: start.getTime() }, where),
 		db.execute(sql`select taken_at as "at", volts, amps from readings
 			where ${where} and volts is not null and amps is not null order by taken_at desc limit 200`)
 	]);
@@ -281,10 +425,167 @@ async function runningStep(
 }
 
 /**
+ * The bucket aggregates of one (session, points), kept in the process and brought up to date
+ * incrementally: after a build (one aggregate query), each refresh reads only the readings whose id
+ * is above a cursor and folds them into their bucket — wherever their time falls — so a refresh
+ * costs the readings that arrived, not the session's size. Min, max, first and last fold and merge
+ * exactly, and folding a reading twice changes nothing, so the catch-up may safely re-read.
+ *
+ * The cursor: ids come from an identity sequence, but a transaction may commit after one that took
+ * a higher id. Each refresh therefore records its snapshot's xmax beside the highest id it saw, and
+ * the cursor only moves up to that id once every transaction running at that snapshot has ended
+ * (a later snapshot's xmin ≥ that xmax); until then refreshes re-read from the older cursor. The
+ * build checks the same once, by counting the readings up to its highest id. Edits keep their id:
+ * a change in the count of the session's `reading.edit` audit rows triggers a rebuild, and every
+ * state is rebuilt after REBUILD_MS anyway (a reading changed outside the app). None of this
+ * depends on NOTIFY: an instance that missed events catches up exactly on its next refresh.
+ */
+type StepView = { key: string; groupId: string | null; from: number; buckets: Buckets };
+type SeriesState = {
+	sessionId: string;
+	n: number;
+	main: Buckets;
+	step: StepView | null;
+	builtAt: number | null;
+	base: bigint;
+	maxSeen: bigint;
+	checkpoints: { maxId: bigint; xmax: bigint }[];
+	verify: { xmax: bigint; maxId: bigint; count: number } | null;
+	edits: number;
+	usedAt: number;
+	lock: Promise<unknown>;
+};
+
+const MAX_STATES = 50;
+const IDLE_MS = 10 * 60_000;
+const REBUILD_MS = 15 * 60_000;
+const states = new Map<string, SeriesState>();
+const MAIN_QUANTITIES: Quantity[] = ['volts', 'temp_c', 'ambient_c'];
+
+/** The state of (session, n), most recently used last; idle ones and the oldest beyond MAX_STATES go. */
+function stateFor(sessionId: string, n: number): SeriesState {
+	const key = `${sessionId}:${n}`;
+	const now = Date.now();
+	for (const [k, state] of states) if (now - state.usedAt > IDLE_MS) states.delete(k);
+	let state = states.get(key);
+	if (state) states.delete(key);
+	else {
+		state = {
+			sessionId,
+			n,
+			main: new Buckets(MAIN_QUANTITIES, 2 * n),
+			step: null,
+			builtAt: null,
+			base: 0n,
+			maxSeen: 0n,
+			checkpoints: [],
+			verify: null,
+			edits: 0,
+			usedAt: now,
+			lock: Promise.resolve()
+		};
+	}
+	state.usedAt = now;
+	states.set(key, state);
+	while (states.size > MAX_STATES) states.delete(states.keys().next().value!);
+	return state;
+}
+
+/** Runs `fn` after the state's previous refresh has finished (one refresh at a time per state). */
+function withState<T>(state: SeriesState, fn: () => Promise<T>): Promise<T> {
+	const next = state.lock.then(fn);
+	state.lock = next.catch(() => {});
+	return next;
+}
+
+type Snapshot = { xmin: bigint; xmax: bigint; edits: number };
+
+async function snapshotOf(run: Runner, sessionId: string): Promise<Snapshot> {
+	const [row] = (await run.execute(sql`
+		select pg_snapshot_xmin(s)::text as xmin, pg_snapshot_xmax(s)::text as xmax,
+			(select count(*)::int from audit_events where session_id = ${sessionId} and kind = 'reading.edit') as edits
+		from pg_current_snapshot() as s`)) as unknown as { xmin: string; xmax: string; edits: number }[];
+	return { xmin: BigInt(row.xmin), xmax: BigInt(row.xmax), edits: row.edits };
+}
+
+const snapshotRead = { isolationLevel: 'repeatable read', accessMode: 'read only' } as const;
+
+async function build(state: SeriesState) {
+	await db.transaction(async (tx) => {
+		const snap = await snapshotOf(tx, state.sessionId);
+		const { count, maxId } = await bucketsFromSql(tx, state.main, sql`session_id = ${state.sessionId}`);
+		state.base = state.maxSeen = maxId;
+		state.checkpoints = [];
+		state.edits = snap.edits;
+		state.verify = snap.xmin < snap.xmax ? { xmax: snap.xmax, maxId, count } : null;
+	}, snapshotRead);
+	state.step = null;
+	state.builtAt = Date.now();
+}
+
+type NewReading = {
+	id: string;
+	groupId: string | null;
+	t: number;
+	volts: number | null;
+	temp_c: number | null;
+	ambient_c: number | null;
+	amps: number | null;
+};
+
+/** Folds in the readings not yet seen (or builds, when there is nothing to build on). */
+async function refresh(state: SeriesState) {
+	if (state.builtAt === null || Date.now() - state.builtAt > REBUILD_MS) return build(state);
+	const read = await db.transaction(async (tx) => {
+		const snap = await snapshotOf(tx, state.sessionId);
+		if (snap.edits !== state.edits) return null;
+		if (state.verify && snap.xmin >= state.verify.xmax) {
+			const [{ count }] = (await tx.execute(sql`
+				select (count(*) filter (where id <= ${String(state.verify.maxId)}::bigint))::int as count
+				from readings where session_id = ${state.sessionId}`)) as unknown as { count: number }[];
+			if (count !== state.verify.count) return null;
+			state.verify = null;
+		}
+		const rows = (await tx.execute(sql`
+			select id::text as id, group_id as "groupId", ${T} as t, volts, temp_c, ambient_c, amps
+			from readings where session_id = ${state.sessionId} and id > ${String(state.base)}::bigint
+			order by id`)) as unknown as NewReading[];
+		return { snap, rows };
+	}, snapshotRead);
+	if (!read) return build(state);
+	const { snap, rows } = read;
+	const step = state.step;
+	for (const r of rows) {
+		state.main.fold(r.groupId, r.t, [r.volts, r.temp_c, r.ambient_c]);
+		if (step && r.groupId === step.groupId && r.t >= step.from) step.buckets.fold(r.groupId, r.t, [r.amps]);
+		const id = BigInt(r.id);
+		if (id > state.maxSeen) state.maxSeen = id;
+	}
+	state.checkpoints.push({ maxId: state.maxSeen, xmax: snap.xmax });
+	// Every transaction running at these checkpoints had ended when this read began, and this read
+	// started at the old cursor: everything up to their highest id is folded in.
+	const done = state.checkpoints.filter((c) => c.xmax <= snap.xmin);
+	if (done.length) {
+		for (const c of done) if (c.maxId > state.base) state.base = c.maxId;
+		state.checkpoints = state.checkpoints.filter((c) => c.xmax > snap.xmin);
+	}
+}
+
+/** The running step's current in buckets, built once per step and then kept up by `refresh`. */
+async function stepRows(state: SeriesState, view: Omit<StepView, 'buckets'>, where: SQL): Promise<BucketRow[]> {
+	if (state.step?.key !== view.key) {
+		const buckets = new Buckets(['amps'], 2 * state.n);
+		await bucketsFromSql(db, buckets, where);
+		state.step = { ...view, buckets };
+	}
+	return state.step.buckets.rows();
+}
+
+/**
  * Chart data per (session, points), kept until the session's next event (every instance listens,
  * so each drops its own copy when a reading, step or status change commits) or for a minute at
  * most (an event lost while the LISTEN connection reconnects). Viewers asking at once share one
- * computation; the cost of a long session is paid once per change, not once per viewer.
+ * computation; a change costs the readings it brought, folded into the kept buckets.
  */
 const CACHE_MS = 60_000;
 const CACHE_ENTRIES = 100;
@@ -315,16 +616,35 @@ export async function sessionSeries(member: Member, sessionId: string, points = 
 	return entry.value;
 }
 
-async function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SessionSeries> {
-	const [[row], groups, rows] = await Promise.all([
+/** Forgets every kept state and cached answer (tests: the next request builds from scratch). */
+export function forgetSeriesState() {
+	states.clear();
+	cache.clear();
+}
+
+function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SessionSeries> {
+	const state = stateFor(visible.id, n);
+	return withState(state, async () => {
+		try {
+			return await seriesFromState(member, visible, n, state);
+		} catch (e) {
+			state.builtAt = null;
+			throw e;
+		}
+	});
+}
+
+async function seriesFromState(member: Member, visible: VisibleSession, n: number, state: SeriesState): Promise<SessionSeries> {
+	const [[row], groups] = await Promise.all([
 		db
 			.select({ limits: chargeSessions.limits, series: packs.series, parallel: packs.parallel, cellSpecId: packs.cellSpecId })
 			.from(chargeSessions)
 			.innerJoin(packs, eq(packs.id, chargeSessions.packId))
 			.where(eq(chargeSessions.id, visible.id)),
 		db.select({ id: packGroups.id, index: packGroups.index }).from(packGroups).where(eq(packGroups.packId, visible.packId)),
-		bucketed(sql`session_id = ${visible.id}`, ['volts', 'temp_c', 'ambient_c'], n * 2)
+		refresh(state)
 	]);
+	const rows = state.main.rows();
 	const indexOf = new Map(groups.map((g) => [g.id, g.index]));
 	const lineKeys = [...new Set(rows.map((r) => r.groupId))].sort(
 		(a, b) => (a === null ? Infinity : indexOf.get(a)!) - (b === null ? Infinity : indexOf.get(b)!)
@@ -368,6 +688,6 @@ async function computeSeries(member: Member, visible: VisibleSession, n: number)
 		spread: downsampleLine(spreadOverTime(rows), n),
 		temps,
 		limits,
-		step: await runningStep(member, visible, row, n)
+		step: await runningStep(member, visible, row, n, state)
 	};
 }
