@@ -13,7 +13,8 @@ import { chargeSessions, packGroups, sessionSteps } from '$lib/server/db/schema'
 import { newId } from '$lib/server/ids';
 import { checkListening, listenerBackendPid, subscribe, subscriberCount } from '$lib/server/sessions/live';
 import { notifySession, type SessionEvent } from '$lib/server/sessions/notify';
-import { plannedCurrent, type SessionSeries } from '$lib/server/sessions/series';
+import { editReading } from '$lib/server/sessions/readings';
+import { forgetCachedSeries, forgetSeriesState, keptSeriesState, plannedCurrent, type SessionSeries } from '$lib/server/sessions/series';
 import { GET as eventsGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/events/+server';
 import { GET as seriesGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/series/+server';
 import { apiEvent, joinAs, packFixture } from './helpers';
@@ -152,6 +153,128 @@ describe('session chart data', () => {
 		await db.transaction((tx) => notifySession(tx, { sessionId: session.id, workshopId: owner.workshop.id, kind: 'reading', count: 1 }));
 		await expect.poll(g1Last).toEqual([t0 + 5 * MINUTE, 4.01]);
 	});
+
+	it('folds new readings, some taken earlier, into the kept buckets exactly as a fresh build does; an edit shows', async () => {
+		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });
+		const groups = await groupsOf(pack.id);
+		const session = await sessionOf(owner, pack.id);
+		const start = Date.now() - 20 * 60 * MINUTE;
+		await db.insert(sessionSteps).values({
+			id: newId(),
+			sessionId: session.id,
+			position: 1,
+			groupId: groups[0].id,
+			channelLabel: 'Channel 1',
+			setVolts: 4.2,
+			amps: 4,
+			expectedStart: new Date(start),
+			expectedEnd: new Date(start + 12 * 60 * MINUTE),
+			ccHours: 10,
+			cvHours: 2,
+			actualStart: new Date(start),
+			status: 'running'
+		});
+		const r3 = (n: number) => Math.round(n * 1000) / 1000;
+		// Four groups read every 20 s; group 1 also logs its charge current (the running step's line).
+		const reading = (i: number, k: number, volts?: number): Row => ({
+			groupId: groups[k].id,
+			takenAt: new Date(start + i * 20_000 + k * 1000),
+			volts: volts ?? r3(3.7 + 0.2 * Math.sin(i / 40) + k * 0.01),
+			tempC: r3(25 + (i % 13) / 10),
+			amps: k === 0 ? r3(4 - i / 1000) : null
+		});
+		const round = (from: number, to: number, step = 1) => {
+			const rows: Row[] = [];
+			for (let i = from; i < to; i += step) for (let k = 0; k < 4; k++) rows.push(reading(i, k));
+			return rows;
+		};
+		const N = 50; // 100 buckets: ~13 readings of a group per bucket, so the buckets really aggregate
+		const fetchBody = async () => (await (await getSeries(owner, session.id, N)).json()) as SessionSeries;
+		const comparable = (body: SessionSeries) => ({ ...body, step: body.step && { ...body.step, reestimate: null } });
+
+		await insertReadings(session.id, pack.id, round(0, 1000));
+		const first = await fetchBody();
+		const kept = keptSeriesState(session.id, N)!;
+		expect(kept.builtAt).not.toBeNull();
+
+		// Later readings double the span (the buckets merge in pairs), readings taken before the
+		// session's first one and between existing ones arrive late, with a spike and a dip.
+		await insertReadings(session.id, pack.id, round(1000, 2000));
+		await insertReadings(session.id, pack.id, [...round(-40, 0), ...round(500.5, 520.5), reading(1500, 2, 4.4), reading(700.5, 3, 3.1)]);
+		await db.transaction((tx) => notifySession(tx, { sessionId: session.id, workshopId: owner.workshop.id, kind: 'reading', count: 1 }));
+		await expect.poll(async () => (await fetchBody()).to).not.toBe(first.to);
+		const incremental = await fetchBody();
+		expect(keptSeriesState(session.id, N)).toMatchObject({ builtAt: kept.builtAt });
+		expect(keptSeriesState(session.id, N)!.level).toBeGreaterThan(kept.level);
+
+		const raw = (await db.execute(sql`
+			select group_id as "groupId", extract(epoch from taken_at)::float8 * 1000 as t, volts
+			from readings where session_id = ${session.id} order by taken_at`)) as unknown as { groupId: string; t: number; volts: number }[];
+		for (const [k, line] of incremental.volts.entries()) {
+			const mine = raw.filter((r) => r.groupId === groups[k].id);
+			expect(line.points.length).toBeLessThanOrEqual(N);
+			expect(line.points[0]).toEqual([mine[0].t, mine[0].volts]);
+			expect(line.points.at(-1)).toEqual([mine.at(-1)!.t, mine.at(-1)!.volts]);
+		}
+		expect(Math.max(...incremental.volts[2].points.map((p) => p[1]))).toBe(4.4);
+		expect(Math.min(...incremental.volts[3].points.map((p) => p[1]))).toBe(3.1);
+		expect(incremental.step?.actualAmps[0][0]).toBe(start); // readings before the step's start stay out
+
+		forgetSeriesState();
+		expect(comparable(incremental)).toEqual(comparable(await fetchBody()));
+
+		// An edited reading keeps its id: the edit (its audit row) makes the kept buckets rebuild.
+		const [target] = (await db.execute(sql`
+			select id from readings where session_id = ${session.id} and group_id = ${groups[1].id}
+			order by taken_at offset 1200 limit 1`)) as unknown as { id: string }[];
+		const before = keptSeriesState(session.id, N)!.builtAt;
+		const edited = await editReading(owner, session.id, Number(target.id), { volts: 4.48 });
+		expect(edited.ok).toBe(true);
+		await expect.poll(async () => Math.max(...(await fetchBody()).volts[1].points.map((p) => p[1]))).toBe(4.48);
+		expect(keptSeriesState(session.id, N)!.builtAt).not.toBe(before);
+		const afterEdit = await fetchBody();
+		forgetSeriesState();
+		expect(comparable(afterEdit)).toEqual(comparable(await fetchBody()));
+	});
+
+	it.runIf(process.env.SERIES_TIMING)('prints what a refresh after one new reading costs at 1,000 and 100,000 readings', async () => {
+		const { owner, pack } = await packFixture({ series: 13, parallel: 4 });
+		const groups = await groupsOf(pack.id);
+		const figures: string[] = [];
+		for (const size of [1_000, 100_000]) {
+			const session = await sessionOf(owner, pack.id);
+			const start = Date.now() - 40 * 60 * MINUTE;
+			const step = (40 * 60 * MINUTE) / size;
+			for (let from = 0; from < size; from += 20_000) {
+				const rows: Row[] = [];
+				for (let i = from; i < Math.min(size, from + 20_000); i++)
+					rows.push({ groupId: groups[i % groups.length].id, takenAt: new Date(start + i * step), volts: 3.7 + 0.3 * Math.sin(i / 500), tempC: 26 });
+				await insertReadings(session.id, pack.id, rows);
+			}
+			await db.execute(sql`analyze readings`);
+			const timed = async () => {
+				const t0 = performance.now();
+				expect((await getSeries(owner, session.id)).status).toBe(200);
+				return performance.now() - t0;
+			};
+			forgetSeriesState();
+			const build = await timed();
+			const refreshes: number[] = [];
+			for (let r = 0; r < 7; r++) {
+				await insertReadings(session.id, pack.id, [{ groupId: groups[r % groups.length].id, takenAt: new Date(Date.now() - r * 7 * MINUTE), volts: 3.9, tempC: 27 }]);
+				forgetCachedSeries(session.id);
+				refreshes.push(await timed());
+			}
+			refreshes.sort((a, b) => a - b);
+			figures.push(`${size} readings: full build ${build.toFixed(0)} ms, refresh after one new reading median ${refreshes[3].toFixed(1)} ms (min ${refreshes[0].toFixed(1)}, max ${refreshes[6].toFixed(1)})`);
+			if (size === 100_000) {
+				const plan = (await db.execute(sql`explain (analyze, costs off, timing off, summary off)
+					select id from readings where session_id = ${session.id} and id > ${String(keptSeriesState(session.id, 600)!.cursor)}::bigint order by id`)) as unknown as Record<string, string>[];
+				figures.push(plan.map((row) => Object.values(row)[0]).join('\n'));
+			}
+		}
+		console.log(figures.join('\n'));
+	}, 600_000);
 
 	it('draws the running step’s planned current next to the logged one', async () => {
 		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });

@@ -622,6 +622,15 @@ export function forgetSeriesState() {
 	cache.clear();
 }
 
+/** Drops the cached answers of a session (as its next event does), keeping its buckets. */
+export const forgetCachedSeries = forgetSession;
+
+/** What is kept for (session, points), for tests and measurements: when it was built, its level. */
+export function keptSeriesState(sessionId: string, points: number) {
+	const state = states.get(`${sessionId}:${points}`);
+	return state && { builtAt: state.builtAt, level: state.main.level, buckets: state.main.size, cursor: state.base };
+}
+
 function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SessionSeries> {
 	const state = stateFor(visible.id, n);
 	return withState(state, async () => {
