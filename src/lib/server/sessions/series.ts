@@ -117,6 +117,10 @@ export class Buckets {
 	lo = Infinity;
 	hi = -Infinity;
 	readonly groups = new Map<string | null, Map<number, Float64Array>>();
+	/** Change counters: a group's lines are unchanged while max(its stamp, reset) is. */
+	private clock = 0;
+	private reset = 0;
+	private readonly stamps = new Map<string | null, number>();
 
 	constructor(
 		readonly quantities: Quantity[],
@@ -141,6 +145,7 @@ export class Buckets {
 	/** Halves the resolution: buckets 2i and 2i+1 become bucket i; their extremes merge exactly. */
 	private coarsen() {
 		this.level++;
+		this.reset = ++this.clock;
 		for (const [groupId, group] of this.groups) {
 			const merged = new Map<number, Float64Array>();
 			this.groups.set(groupId, merged);
@@ -159,6 +164,7 @@ export class Buckets {
 		const need = this.levelFor(this.lo, this.hi);
 		while (this.level < need) this.coarsen();
 		if (values.every((v) => v === null)) return;
+		this.stamps.set(groupId, ++this.clock);
 		const a = this.bucket(groupId, bucketOf(t, this.level));
 		values.forEach((v, q) => v !== null && foldPoint(a, q * SLOTS, t, v));
 	}
@@ -166,6 +172,7 @@ export class Buckets {
 	/** Replaces the content with what PostgreSQL aggregated at `level` (see `bucketsFromSql`). */
 	load(lo: number, hi: number, level: number, rows: BucketRow[]) {
 		this.groups.clear();
+		this.reset = ++this.clock;
 		this.lo = lo;
 		this.hi = hi;
 		this.level = level;
@@ -178,24 +185,94 @@ export class Buckets {
 		}
 	}
 
-	/** Rows in bucket order, in the shape m4Points and spreadOverTime read. */
-	rows(): BucketRow[] {
-		const out: BucketRow[] = [];
-		for (const [groupId, group] of this.groups) {
-			for (const [b, a] of group) {
-				const row: BucketRow = { groupId, b } as BucketRow;
-				this.quantities.forEach((q, i) => {
-					const o = i * SLOTS;
-					const has = !Number.isNaN(a[o]);
-					row[`${q}_first`] = has ? [a[o], a[o + 1]] : null;
-					row[`${q}_last`] = has ? [a[o + 2], a[o + 3]] : null;
-					row[`${q}_min`] = has ? [a[o + 4], a[o + 5]] : null;
-					row[`${q}_max`] = has ? [a[o + 6], a[o + 7]] : null;
-				});
-				out.push(row);
+	/** Changes when anything of the group (or of every group, with no argument) may have changed. */
+	stamp(groupId?: string | null): number {
+		if (groupId === undefined) return this.clock;
+		return Math.max(this.stamps.get(groupId) ?? 0, this.reset);
+	}
+
+	private sortedKeys(groupId: string | null): number[] {
+		return [...(this.groups.get(groupId)?.keys() ?? [])].sort((a, b) => a - b);
+	}
+
+	/**
+	 * The M4 points of one group's quantity in time order: per bucket its first, lowest, highest
+	 * and last point, once each (buckets do not overlap in time). Values ÷ `scale`.
+	 */
+	points(groupId: string | null, q: Quantity, scale = 1): SeriesPoint[] {
+		const group = this.groups.get(groupId);
+		const o = this.quantities.indexOf(q) * SLOTS;
+		const out: SeriesPoint[] = [];
+		if (!group || o < 0) return out;
+		for (const b of this.sortedKeys(groupId)) {
+			const a = group.get(b)!;
+			if (Number.isNaN(a[o])) continue;
+			const candidates: SeriesPoint[] = [
+				[a[o], a[o + 1]],
+				[a[o + 5], a[o + 4]],
+				[a[o + 7], a[o + 6]],
+				[a[o + 2], a[o + 3]]
+			];
+			candidates.sort((x, y) => x[0] - y[0]);
+			let previous = NaN;
+			for (const [t, v] of candidates) {
+				if (t === previous) continue;
+				previous = t;
+				out.push([t, v / scale]);
 			}
 		}
-		return out.sort((a, b) => a.b - b.b);
+		return out;
+	}
+
+	/** One quantity of every group as one line (ambient temperature): the first point at a time wins. */
+	pointsOfAll(q: Quantity): SeriesPoint[] {
+		const seen = new Set<number>();
+		const out: SeriesPoint[] = [];
+		for (const groupId of this.groups.keys()) {
+			for (const p of this.points(groupId, q)) {
+				if (seen.has(p[0])) continue;
+				seen.add(p[0]);
+				out.push(p);
+			}
+		}
+		return out.sort((a, b) => a[0] - b[0]);
+	}
+
+	/**
+	 * Max − min of the groups' latest volts per cell, one point per bucket (at its last reading), from
+	 * the moment two groups have a reading. A group read more than once in a bucket counts with its
+	 * highest and lowest value there, so the point is the largest spread the bucket may have had (a
+	 * short spike is never averaged away); with at most one reading per group in a bucket it is exact.
+	 */
+	spread(): SeriesPoint[] {
+		const o = this.quantities.indexOf('volts') * SLOTS;
+		if (o < 0) return [];
+		const groups = [...this.groups].filter(([groupId]) => groupId !== null) as [string, Map<number, Float64Array>][];
+		const keys = [...new Set(groups.flatMap(([, group]) => [...group.keys()]))].sort((a, b) => a - b);
+		const latest = new Map<string, number>();
+		const range = new Map<string, [number, number]>();
+		const out: SeriesPoint[] = [];
+		for (const b of keys) {
+			let at = -Infinity;
+			range.clear();
+			for (const [groupId, group] of groups) {
+				const a = group.get(b);
+				if (!a || Number.isNaN(a[o])) continue;
+				range.set(groupId, [a[o + 4], a[o + 6]]);
+				latest.set(groupId, a[o + 3]);
+				at = Math.max(at, a[o + 2]);
+			}
+			if (at === -Infinity || latest.size < 2) continue;
+			let hi = -Infinity;
+			let lo = Infinity;
+			for (const [groupId, value] of latest) {
+				const [min, max] = range.get(groupId) ?? [value, value];
+				hi = Math.max(hi, max);
+				lo = Math.min(lo, min);
+			}
+			out.push([at, hi - lo]);
+		}
+		return out;
 	}
 
 	get size(): number {
@@ -250,66 +327,6 @@ async function bucketsFromSql(run: Runner, into: Buckets, where: SQL): Promise<{
 		group by group_id, b`);
 	into.load(span.lo, span.hi, level, rows as unknown as BucketRow[]);
 	return { count: span.count, maxId: BigInt(span.maxId) };
-}
-
-/** The M4 points of one quantity from bucket rows, in time order, without repeats. */
-function m4Points(rows: BucketRow[], q: Quantity, scale = 1): SeriesPoint[] {
-	const seen = new Set<number>();
-	const out: SeriesPoint[] = [];
-	for (const row of rows) {
-		const first = row[`${q}_first`];
-		if (!first) continue;
-		const last = row[`${q}_last`]!;
-		const min = row[`${q}_min`]!;
-		const max = row[`${q}_max`]!;
-		const candidates: SeriesPoint[] = [
-			[first[0], first[1]],
-			[min[1], min[0]],
-			[max[1], max[0]],
-			[last[0], last[1]]
-		];
-		candidates.sort((a, b) => a[0] - b[0]);
-		for (const [t, v] of candidates) {
-			if (seen.has(t)) continue;
-			seen.add(t);
-			out.push([t, v / scale]);
-		}
-	}
-	return out.sort((a, b) => a[0] - b[0]);
-}
-
-/**
- * Max − min of the groups' latest volts per cell, one point per bucket (at its last reading), from
- * the moment two groups have a reading. A group read more than once in a bucket counts with its
- * highest and lowest value there, so the point is the largest spread the bucket may have had (a
- * short spike is never averaged away); with at most one reading per group in a bucket it is exact.
- */
-function spreadOverTime(rows: BucketRow[]): SeriesPoint[] {
-	const latest = new Map<string, number>();
-	const out: SeriesPoint[] = [];
-	let i = 0;
-	while (i < rows.length) {
-		const b = rows[i].b;
-		let at = -Infinity;
-		const range = new Map<string, [number, number]>();
-		for (; i < rows.length && rows[i].b === b; i++) {
-			const row = rows[i];
-			if (!row.volts_last || row.groupId === null) continue;
-			range.set(row.groupId, [row.volts_min![0], row.volts_max![0]]);
-			latest.set(row.groupId, row.volts_last[1]);
-			at = Math.max(at, row.volts_last[0]);
-		}
-		if (at === -Infinity || latest.size < 2) continue;
-		let hi = -Infinity;
-		let lo = Infinity;
-		for (const [groupId, value] of latest) {
-			const [min, max] = range.get(groupId) ?? [value, value];
-			hi = Math.max(hi, max);
-			lo = Math.min(lo, min);
-		}
-		out.push([at, hi - lo]);
-	}
-	return out;
 }
 
 const round = (n: number, digits: number) => Math.round(n * 10 ** digits) / 10 ** digits;
@@ -367,12 +384,12 @@ async function runningStep(
 	const scale = s.groupId === null ? pack.series : 1;
 	const groupMatch = s.groupId === null ? sql`group_id is null` : sql`group_id = ${s.groupId}`;
 	const where = sql`session_id = ${session.id} and ${groupMatch} and taken_at >= ${start.toISOString()}::timestamptz`;
-	const [rows, recent] = await Promise.all([
-		stepRows(state, { key: `${s.id}:${start.getTime()}:${s.groupId}`, groupId: s.groupId, from: start.getTime() }, where),
+	const [buckets, recent] = await Promise.all([
+		stepBuckets(state, { key: `${s.id}:${start.getTime()}:${s.groupId}`, groupId: s.groupId, from: start.getTime() }, where),
 		db.execute(sql`select taken_at as "at", volts, amps from readings
 			where ${where} and volts is not null and amps is not null order by taken_at desc limit 200`)
 	]);
-	const actualAmps = downsampleLine(m4Points(rows, 'amps'), points);
+	const actualAmps = downsampleLine(buckets.points(s.groupId, 'amps'), points);
 
 	const charging = (s.role === 'charge' || s.role === 'top-up') && (s.amps ?? 0) > 0;
 	let predictedAmps: SeriesPoint[] = [];
@@ -454,6 +471,8 @@ type SeriesState = {
 	edits: number;
 	usedAt: number;
 	lock: Promise<unknown>;
+	/** Downsampled lines by quantity and group, reused while their buckets have not changed. */
+	lines: Map<string, { stamp: number; points: SeriesPoint[] }>;
 };
 
 const MAX_STATES = 50;
@@ -482,7 +501,8 @@ function stateFor(sessionId: string, n: number): SeriesState {
 			verify: null,
 			edits: 0,
 			usedAt: now,
-			lock: Promise.resolve()
+			lock: Promise.resolve(),
+			lines: new Map()
 		};
 	}
 	state.usedAt = now;
@@ -572,13 +592,13 @@ async function refresh(state: SeriesState) {
 }
 
 /** The running step's current in buckets, built once per step and then kept up by `refresh`. */
-async function stepRows(state: SeriesState, view: Omit<StepView, 'buckets'>, where: SQL): Promise<BucketRow[]> {
+async function stepBuckets(state: SeriesState, view: Omit<StepView, 'buckets'>, where: SQL): Promise<Buckets> {
 	if (state.step?.key !== view.key) {
 		const buckets = new Buckets(['amps'], 2 * state.n);
 		await bucketsFromSql(db, buckets, where);
 		state.step = { ...view, buckets };
 	}
-	return state.step.buckets.rows();
+	return state.step.buckets;
 }
 
 /**
@@ -653,24 +673,32 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 		db.select({ id: packGroups.id, index: packGroups.index }).from(packGroups).where(eq(packGroups.packId, visible.packId)),
 		refresh(state)
 	]);
-	const rows = state.main.rows();
+	const main = state.main;
+	// A new reading changes one group's lines: the others are reused as they were downsampled.
+	const line = (key: string, stamp: number, points: () => SeriesPoint[]) => {
+		const kept = state.lines.get(key);
+		if (kept && kept.stamp === stamp) return kept.points;
+		const fresh = downsampleLine(points(), n);
+		state.lines.set(key, { stamp, points: fresh });
+		return fresh;
+	};
 	const indexOf = new Map(groups.map((g) => [g.id, g.index]));
-	const lineKeys = [...new Set(rows.map((r) => r.groupId))].sort(
+	const lineKeys = [...main.groups.keys()].sort(
 		(a, b) => (a === null ? Infinity : indexOf.get(a)!) - (b === null ? Infinity : indexOf.get(b)!)
 	);
 	const label = (groupId: string | null) => (groupId === null ? 'Whole pack (per cell)' : `G${indexOf.get(groupId)}`);
 	const volts: SeriesLine[] = [];
 	const temps: SeriesLine[] = [];
 	for (const groupId of lineKeys) {
-		const mine = rows.filter((r) => r.groupId === groupId);
+		const stamp = main.stamp(groupId);
 		// Whole-pack readings are pack volts: ÷ groups in series for a per-cell chart.
-		const v = m4Points(mine, 'volts', groupId === null ? row.series : 1);
-		if (v.length) volts.push({ key: groupId ?? 'pack', label: label(groupId), points: downsampleLine(v, n) });
-		const t = m4Points(mine, 'temp_c');
-		if (t.length) temps.push({ key: groupId ?? 'pack', label: label(groupId), points: downsampleLine(t, n) });
+		const v = line(`volts:${groupId ?? ''}`, stamp, () => main.points(groupId, 'volts', groupId === null ? row.series : 1));
+		if (v.length) volts.push({ key: groupId ?? 'pack', label: label(groupId), points: v });
+		const t = line(`temp_c:${groupId ?? ''}`, stamp, () => main.points(groupId, 'temp_c'));
+		if (t.length) temps.push({ key: groupId ?? 'pack', label: label(groupId), points: t });
 	}
-	const ambient = m4Points(rows, 'ambient_c');
-	if (ambient.length) temps.push({ key: 'ambient', label: 'Ambient', points: downsampleLine(ambient, n) });
+	const ambient = line('ambient', main.stamp(), () => main.pointsOfAll('ambient_c'));
+	if (ambient.length) temps.push({ key: 'ambient', label: 'Ambient', points: ambient });
 	let lo = Infinity;
 	let hi = -Infinity;
 	for (const line of [...volts, ...temps]) {
@@ -694,7 +722,7 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 		from: lo === Infinity ? null : new Date(lo).toISOString(),
 		to: hi === -Infinity ? null : new Date(hi).toISOString(),
 		volts,
-		spread: downsampleLine(spreadOverTime(rows), n),
+		spread: line('spread', main.stamp(), () => main.spread()),
 		temps,
 		limits,
 		step: await runningStep(member, visible, row, n, state)
