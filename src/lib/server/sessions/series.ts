@@ -246,29 +246,36 @@ export class Buckets {
 	 */
 	spread(): SeriesPoint[] {
 		const o = this.quantities.indexOf('volts') * SLOTS;
-		if (o < 0) return [];
-		const groups = [...this.groups].filter(([groupId]) => groupId !== null) as [string, Map<number, Float64Array>][];
-		const keys = [...new Set(groups.flatMap(([, group]) => [...group.keys()]))].sort((a, b) => a - b);
-		const latest = new Map<string, number>();
-		const range = new Map<string, [number, number]>();
 		const out: SeriesPoint[] = [];
-		for (const b of keys) {
+		if (o < 0 || this.lo > this.hi) return out;
+		const groups = [...this.groups].filter(([groupId]) => groupId !== null).map(([, group]) => group);
+		// Per group: its latest volts so far, and its lowest and highest in the current bucket.
+		const latest = new Float64Array(groups.length).fill(NaN);
+		const low = new Float64Array(groups.length);
+		const high = new Float64Array(groups.length);
+		let groupsRead = 0;
+		// Every bucket in the span, in order: at most `cap` of them.
+		for (let b = bucketOf(this.lo, this.level), last = bucketOf(this.hi, this.level); b <= last; b++) {
 			let at = -Infinity;
-			range.clear();
-			for (const [groupId, group] of groups) {
-				const a = group.get(b);
-				if (!a || Number.isNaN(a[o])) continue;
-				range.set(groupId, [a[o + 4], a[o + 6]]);
-				latest.set(groupId, a[o + 3]);
-				at = Math.max(at, a[o + 2]);
+			for (let g = 0; g < groups.length; g++) {
+				const a = groups[g].get(b);
+				if (!a || Number.isNaN(a[o])) {
+					low[g] = high[g] = latest[g];
+					continue;
+				}
+				if (Number.isNaN(latest[g])) groupsRead++;
+				low[g] = a[o + 4];
+				high[g] = a[o + 6];
+				latest[g] = a[o + 3];
+				if (a[o + 2] > at) at = a[o + 2];
 			}
-			if (at === -Infinity || latest.size < 2) continue;
+			if (at === -Infinity || groupsRead < 2) continue;
 			let hi = -Infinity;
 			let lo = Infinity;
-			for (const [groupId, value] of latest) {
-				const [min, max] = range.get(groupId) ?? [value, value];
-				hi = Math.max(hi, max);
-				lo = Math.min(lo, min);
+			for (let g = 0; g < groups.length; g++) {
+				if (Number.isNaN(latest[g])) continue;
+				if (high[g] > hi) hi = high[g];
+				if (low[g] < lo) lo = low[g];
 			}
 			out.push([at, hi - lo]);
 		}
