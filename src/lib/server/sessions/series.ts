@@ -483,12 +483,17 @@ type SeriesState = {
 };
 
 const MAX_STATES = 50;
+/** About 250 bytes a bucket (three quantities): ~50 MB at most for all kept states together. */
+const MAX_BUCKETS = 200_000;
 const IDLE_MS = 10 * 60_000;
 const REBUILD_MS = 15 * 60_000;
 const states = new Map<string, SeriesState>();
 const MAIN_QUANTITIES: Quantity[] = ['volts', 'temp_c', 'ambient_c'];
 
-/** The state of (session, n), most recently used last; idle ones and the oldest beyond MAX_STATES go. */
+/**
+ * The state of (session, n), most recently used last; idle ones go, and the least recently used
+ * beyond MAX_STATES states or MAX_BUCKETS buckets in all.
+ */
 function stateFor(sessionId: string, n: number): SeriesState {
 	const key = `${sessionId}:${n}`;
 	const now = Date.now();
@@ -515,6 +520,13 @@ function stateFor(sessionId: string, n: number): SeriesState {
 	state.usedAt = now;
 	states.set(key, state);
 	while (states.size > MAX_STATES) states.delete(states.keys().next().value!);
+	let buckets = 0;
+	for (const kept of states.values()) buckets += kept.main.size + (kept.step?.buckets.size ?? 0);
+	for (const [k, kept] of states) {
+		if (buckets <= MAX_BUCKETS || kept === state) break;
+		buckets -= kept.main.size + (kept.step?.buckets.size ?? 0);
+		states.delete(k);
+	}
 	return state;
 }
 
