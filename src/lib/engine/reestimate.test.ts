@@ -1,6 +1,7 @@
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { Solver } from 'odex';
 import { describe, expect, it } from 'vitest';
+import { estimateCharge } from './charge';
 import { reestimate, type StepReading } from './reestimate';
 import { at, prng } from './test-support';
 
@@ -116,5 +117,29 @@ describe('reestimate', () => {
 	])('refuses %s', (_, patch, reason) => {
 		const input = { chemistry: 'nmc', capacityAh: 16, setVolts: 4.2, amps: 10, readings: [{ at: at(1), volts: 4.0, amps: 10 }], now: at(2), ...patch };
 		expect(reestimate(input as never)).toMatchObject({ ok: false, reason });
+	});
+
+	it('CC with the step\'s start known: counts the amp-hours in rather than reading the flat LFP plateau', () => {
+		// A 105 Ah LFP group from 30 % at 10:00 on a 5 A supply; logged 5.0 A at 11:00 and 4.8 A at 12:00.
+		// Counted by hand: 5.0 A × 1 h before the first reading (CC) + (5.0 + 4.8) / 2 × 1 h = 9.9 Ah;
+		// 0.30 + 9.9 / 105 = 0.394286.
+		const readings: StepReading[] = [
+			{ at: at(11), volts: 3.4, amps: 5 },
+			{ at: at(12), volts: 3.41, amps: 4.8 }
+		];
+		const base = { chemistry: 'lfp' as const, capacityAh: 105, setVolts: 3.65, amps: 5, readings, now: at(12) };
+		const counted = reestimate({ ...base, counted: { startSoc: 0.3, startedAt: at(10) } });
+		if (!counted.ok) throw new Error(counted.reason);
+		expect(counted).toMatchObject({ phase: 'cc', socBasis: 'counted' });
+		expect(counted.socNow).toBeCloseTo(0.394286, 5);
+		// What is left is the model's charge from that state (estimateCharge is checked against
+		// published charge times in charge.test.ts).
+		const fromThere = estimateCharge({ chemistry: 'lfp', capacityAh: 105, amps: 5, setVolts: 3.65, startSoc: 0.394286 });
+		if (!fromThere.ok) throw new Error(fromThere.reason);
+		expect(counted.remainingHours).toBeCloseTo(fromThere.totalHours, 3);
+		// Without the start, the same readings fall back to the terminal voltage.
+		expect(reestimate(base)).toMatchObject({ ok: true, socBasis: 'volts' });
+		// A start state outside 0..1 is not counted.
+		expect(reestimate({ ...base, counted: { startSoc: 1.3, startedAt: at(10) } })).toMatchObject({ socBasis: 'volts' });
 	});
 });

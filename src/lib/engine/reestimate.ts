@@ -27,6 +27,12 @@ export interface ReestimateInput {
 	terminationAmps?: number;
 	readings: StepReading[];
 	now: Date;
+	/**
+	 * The step's start: its state of charge then and when it began. In CC the charge is then
+	 * counted (amp-hours in from the logged currents) instead of read from the terminal voltage,
+	 * which on a flat curve (LFP's plateau) says almost nothing about the state of charge.
+	 */
+	counted?: { startSoc: number; startedAt: Date };
 }
 
 export type ChargePhase = 'pre' | 'cc' | 'cv' | 'done';
@@ -37,6 +43,8 @@ export interface Reestimate {
 	socNow: number;
 	/** The CV taper's time constant fitted to the logged currents (I = I₀·e^(−t/τ)), when there are enough. */
 	fittedTauHours?: number;
+	/** How socNow was found in CC: amp-hours counted since the step's start, or the terminal voltage. */
+	socBasis?: 'counted' | 'volts';
 }
 
 /**
@@ -77,9 +85,10 @@ export function reestimate(input: ReestimateInput): Result<Reestimate> {
 	}
 	if (!isCv(latest)) {
 		// Terminal volts in CC run overVolts above rest (the model's own offset); read soc below it.
-		const socNow = clamp(curveSoc(chem.restCurve, latest.volts - model.overVolts), 0, model.socAtCv);
+		const counted = countedSoc(input, readings, latest);
+		const socNow = clamp(counted ?? curveSoc(chem.restCurve, latest.volts - model.overVolts), 0, model.socAtCv);
 		const left = runCharge(model, socNow).totalHours;
-		return { ok: true, phase: 'cc', remainingHours: Math.max(0, left - sinceHours), socNow };
+		return { ok: true, phase: 'cc', remainingHours: Math.max(0, left - sinceHours), socNow, socBasis: counted === null ? 'volts' : 'counted' };
 	}
 
 	let first = readings.length - 1;
@@ -106,6 +115,27 @@ export function reestimate(input: ReestimateInput): Result<Reestimate> {
 	const socNow = model.endSoc - share * (model.endSoc - model.socAtCv);
 	const left = cvHoursFrom(model, Math.max(ampsNow, cvAmpsAt(model, model.endSoc)));
 	return { ok: true, phase: 'cv', remainingHours: Math.max(0, left - sinceHours), socNow };
+}
+
+/**
+ * State of charge at the latest reading by counting: the start state plus the amp-hours in since
+ * the step began (trapezoids between logged currents; before the first reading its current is
+ * taken as constant — CC), over the capacity. Null without a usable start.
+ */
+function countedSoc(input: ReestimateInput, readings: StepReading[], latest: StepReading): number | null {
+	const c = input.counted;
+	if (!c || !isFiniteNumber(c.startSoc) || c.startSoc < 0 || c.startSoc > 1) return null;
+	const start = timeOf(c.startedAt);
+	const end = timeOf(latest.at);
+	if (!Number.isFinite(start) || end < start) return null;
+	const inStep = readings.filter((r) => timeOf(r.at) >= start);
+	if (inStep.length === 0) return null;
+	let ah = (inStep[0].amps * (timeOf(inStep[0].at) - start)) / MS_PER_HOUR;
+	for (let i = 1; i < inStep.length; i++) {
+		const hours = (timeOf(inStep[i].at) - timeOf(inStep[i - 1].at)) / MS_PER_HOUR;
+		ah += ((inStep[i].amps + inStep[i - 1].amps) / 2) * hours;
+	}
+	return c.startSoc + ah / input.capacityAh;
 }
 
 function clamp(x: number, lo: number, hi: number): number {

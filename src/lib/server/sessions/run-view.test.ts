@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { chemistries } from '$lib/engine';
+import { chemistries, estimateCharge } from '$lib/engine';
 import { buildRunView, type RunInput, type RunReading, type RunStepInput } from './run-view';
 
 // A 4S2P NMC pack of 3 Ah cells (a group is 6 Ah), charged one group at a time to 4.20 V at 3 A on
@@ -16,6 +16,7 @@ const step = (position: number, groupId: string | null, start: string, end: stri
 	role: 'charge',
 	setVolts: 4.2,
 	amps: 3,
+	ah: 0,
 	expectedStart: t(start),
 	expectedEnd: t(end),
 	actualStart: null,
@@ -140,6 +141,18 @@ describe('the run view', () => {
 		// so step 4 ends at 14:00 + 1.237 h = 15:14:13.
 		const end = new Date(view.expectedEnd!).getTime();
 		expect(Math.abs(end - t('15:14').getTime())).toBeLessThan(60_000);
+	});
+
+	it('in CC counts the amp-hours in since the step started, from the plan\'s start state', () => {
+		// Step 2 puts 4.8 Ah into a 6 Ah group that ends full at 4.20 V: it started at 1 − 4.8 / 6 = 20 %.
+		// 3 A logged at 08:35 and 09:05 after the 08:05 start: 3 A × 1 h = 3 Ah → 20 % + 3 / 6 = 70 %.
+		const running = step(2, 'g2', '08:05', '10:00', { status: 'running', actualStart: t('08:05'), ah: 4.8 });
+		const cc = (at: string, volts: number) => ({ ...reading('g2', at, { volts, amps: 3 }), stepId: 's2' });
+		const view = buildRunView(input({ steps: [running], readings: [cc('08:35', 3.8), cc('09:05', 3.9)], now: t('09:05') }));
+		const fromSeventy = estimateCharge({ chemistry: 'nmc', capacityAh: 6, amps: 3, setVolts: 4.2, startSoc: 0.7 });
+		if (!fromSeventy.ok) throw new Error(fromSeventy.reason);
+		expect(view.timeToFull[0]).toMatchObject({ basis: 'readings', phase: 'cc' });
+		expect(view.timeToFull[0].hours).toBeCloseTo(fromSeventy.totalHours, 3);
 	});
 
 	it('falls back to the plan for time to full before the step has readings', () => {

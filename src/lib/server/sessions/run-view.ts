@@ -9,6 +9,7 @@
 import { sql } from 'drizzle-orm';
 import {
 	defaultLimits,
+	endSocAtSetVolts,
 	evaluateReadings,
 	reestimate,
 	type AlertDraft,
@@ -43,6 +44,8 @@ export type RunStepInput = {
 	role: string;
 	setVolts: number | null;
 	amps: number | null;
+	/** Amp-hours the plan puts in (the step's start state follows from it). */
+	ah: number;
 	expectedStart: Date;
 	expectedEnd: Date;
 	actualStart: Date | null;
@@ -329,13 +332,17 @@ export function buildRunView(input: RunInput): RunView {
 				.filter((r) => r.stepId === s.id && r.groupId === s.groupId && r.volts !== null && r.amps !== null)
 				.map((r) => ({ at: r.takenAt, volts: cellVolts(r)!, amps: r.amps! }));
 			if (stepReadings.length) {
+				const capacityAh = pack.cellCapacityAh * pack.parallel;
+				// The plan's start state of the step: its end state less the amp-hours it puts in.
+				const startSoc = endSocAtSetVolts(pack.chemistry, setVolts) - s.ah / capacityAh;
 				const est = reestimate({
 					chemistry: pack.chemistry,
-					capacityAh: pack.cellCapacityAh * pack.parallel,
+					capacityAh,
 					setVolts,
 					amps: s.amps,
 					readings: stepReadings,
-					now
+					now,
+					...(s.actualStart && s.ah > 0 && startSoc >= 0 ? { counted: { startSoc, startedAt: s.actualStart } } : {})
 				});
 				if (est.ok) entry = { ...entry, hours: est.remainingHours, basis: 'readings', phase: est.phase, note: null };
 			}
