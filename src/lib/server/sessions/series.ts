@@ -2,12 +2,13 @@
  * Chart data of a session, downsampled on the server so that a 100,000-reading session costs about
  * what a 1,000-reading one does.
  *
- * Two stages: PostgreSQL cuts the session's time span into 2·N buckets and keeps, per group and
- * bucket, the first, last, lowest and highest point of each quantity (M4 aggregation — everything a
- * line drawn at that width can show, and every spike's extreme), so at most 8·N points per line
- * leave the database whatever the session's size; then the `downsample` package's LTTB picks N of
- * them. A line with at most two readings per bucket reaches LTTB whole.
- */
+ * Two stages: the session's time span is cut into at most 2·N buckets of a fixed, epoch-aligned
+ * width, keeping per group and bucket the first, last, lowest and highest point of each quantity
+ * (M4 aggregation — everything a line drawn at that width can show, and every spike's extreme), so
+ * at most 8·N points per line whatever the session's size; then the `downsample` package's LTTB
+ * picks N of them. A line with at most two readings per bucket reaches LTTB whole. The buckets are
+ * built by PostgreSQL once and then kept in the process and updated with only the readings that
+ * arrived since (see `SeriesState`), so the refresh after a new reading does not grow with the session. */
 import { error } from '@sveltejs/kit';
 import { and, asc, eq, sql, type SQL } from 'drizzle-orm';
 import { createLTTB } from 'downsample';
