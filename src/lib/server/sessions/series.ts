@@ -8,7 +8,8 @@
  * at most 8·N points per line whatever the session's size; then the `downsample` package's LTTB
  * picks N of them. A line with at most two readings per bucket reaches LTTB whole. The buckets are
  * built by PostgreSQL once and then kept in the process and updated with only the readings that
- * arrived since (see `SeriesState`), so the refresh after a new reading does not grow with the session. */
+ * arrived since (see `SeriesState`), so the refresh after a new reading does not grow with the session.
+ */
 import { error } from '@sveltejs/kit';
 import { and, asc, eq, sql, type SQL } from 'drizzle-orm';
 import { createLTTB } from 'downsample';
