@@ -155,6 +155,15 @@ describe('the run view', () => {
 		expect(view.timeToFull[0].hours).toBeCloseTo(fromSeventy.totalHours, 3);
 	});
 
+	it('calls a step finished only when its current is down to the end current at the set voltage', () => {
+		// NMC ends a charge at C/20: 0.30 A for a 6 Ah group. Group 2 (step 2 running) logs 0.25 A.
+		const low = (volts: number) => buildRunView(input({ readings: [{ ...reading('g2', '10:30', { volts, amps: 0.25 }), stepId: 's2' }] }));
+		// At 3.90 V the group is nowhere near 4.20 V: a supply set that low in current is not a finished step.
+		expect(low(3.9).tiles[1].messages.join(' ')).not.toMatch(/step is finished/);
+		// At 4.19 V — within 30 mV of the set 4.20 V — and 0.25 A it is.
+		expect(low(4.19).tiles[1].messages.join(' ')).toMatch(/Group 2's current is down to 0\.25 A: its step is finished/);
+	});
+
 	it('falls back to the plan for time to full before the step has readings', () => {
 		// Step 2 was planned for 1 h 55 min and started at 08:05: it should end at 10:00, an hour ago.
 		const view = buildRunView(input({ now: t('09:00') }));

@@ -139,6 +139,8 @@ const severityState: Record<AlertDraft['severity'], RunState> = { critical: 'act
 const stateRank: Record<RunState, number> = { idle: 0, steady: 1, watch: 2, 'act-now': 3 };
 const severityRank: Record<AlertDraft['severity'], number> = { info: 0, warning: 1, critical: 2 };
 const CHARGING_ROLES = new Set(['charge', 'top-up', 'balance']);
+/** Within this of the set voltage a group counts as at it (lead and meter drop), as in reestimate [CP]. */
+const CV_VOLTS_BAND = 0.03;
 
 /** The session's limits over the engine's defaults (a stored set may predate a new key). */
 export function sessionLimits(input: Pick<RunInput, 'session' | 'pack'>): Limits | null {
@@ -236,6 +238,12 @@ export function buildRunView(input: RunInput): RunView {
 	const stillToCharge = new Set(ordered.filter((s) => s.groupId !== null && (s.status === 'waiting' || s.status === 'running')).map((s) => s.groupId));
 	const driftIds = wholePackCharging ? groupIds : groupIds.filter((id) => !stillToCharge.has(id));
 	const terminationAmps = pack.chemistry.terminationC * pack.cellCapacityAh * pack.parallel;
+	const atSetVolts = (groupKey: string | undefined) => {
+		const id = groupKey === undefined ? undefined : idOfIndex.get(groupKey);
+		const r = id === undefined ? undefined : newestWith(byGroup.get(id), (x) => x.volts);
+		const v = r ? cellVolts(r) : null;
+		return session.setVolts === null || (v !== null && v >= session.setVolts - CV_VOLTS_BAND);
+	};
 	const alerts: AlertDraft[] = limits
 		? [
 				// Limits of volts and temperature, whatever charges.
@@ -252,7 +260,11 @@ export function buildRunView(input: RunInput): RunView {
 					charging: session.status === 'running',
 					terminationAmps,
 					now
-				}).filter((a) => a.kind === 'cold-charge' || a.kind === 'heat-rise' || a.kind === 'step-finished')
+				})
+					.filter((a) => a.kind === 'cold-charge' || a.kind === 'heat-rise' || a.kind === 'step-finished')
+					// A supply set below the usual end current (C/20 of a big group) is under it from the
+					// start: the step ends only once the group is also at its set voltage, as reestimate says.
+					.filter((a) => a.kind !== 'step-finished' || atSetVolts(a.groupId))
 			]
 		: [];
 	alerts.sort((a, b) => severityRank[b.severity] - severityRank[a.severity]);
