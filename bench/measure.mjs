@@ -133,21 +133,42 @@ export async function series(baseUrl, seeded) {
 		const text = await r.text();
 		return { ms: msSince(start), bytes: text.length, lines: JSON.parse(text).volts?.length };
 	};
+	// What a live viewer pays: the chart data fetched again right after a new reading arrived
+	// (posted through the readings API, whose NOTIFY marks the kept chart data stale).
+	let posted = 0;
+	const afterReading = async (sessionId) => {
+		const r = await fetch(`${baseUrl}/api/w/${slug}/sessions/${sessionId}/readings`, {
+			method: 'POST',
+			headers: { cookie, 'content-type': 'application/json' },
+			body: JSON.stringify({ readings: [{ clientId: `bench-live-${process.pid}-${posted++}`, groupIndex: 1, takenAt: new Date().toISOString(), volts: 3.9, amps: 1 }] })
+		});
+		await expectStatus(r, [200, 201], 'posting a reading before the series');
+		await new Promise((resolve) => setTimeout(resolve, 50));
+		return time(sessionId);
+	};
 	for (let i = 0; i < SERIES.warmup; i++) {
 		await time(sessions.small);
 		await time(sessions.large);
 	}
 	const small = [];
 	const large = [];
-	let shape;
+	const smallFresh = [];
+	const largeFresh = [];
 	for (let i = 0; i < SERIES.runs; i++) {
 		small.push(await time(sessions.small));
 		large.push(await time(sessions.large));
+		smallFresh.push(await afterReading(sessions.small));
+		largeFresh.push(await afterReading(sessions.large));
 	}
 	const summary = (xs) => {
 		const ms = xs.map((x) => x.ms).sort((a, b) => a - b);
 		return { median: quantile(ms, 0.5), p90: quantile(ms, 0.9), min: ms[0], bytes: xs[0].bytes, lines: xs[0].lines };
 	};
-	shape = { small: summary(small), large: summary(large) };
-	return { ...SERIES, ...shape, ratio: shape.large.median / shape.small.median };
+	const shape = { small: summary(small), large: summary(large), smallFresh: summary(smallFresh), largeFresh: summary(largeFresh) };
+	return {
+		...SERIES,
+		...shape,
+		ratio: shape.large.median / shape.small.median,
+		ratioFresh: shape.largeFresh.median / shape.smallFresh.median
+	};
 }

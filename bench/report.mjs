@@ -54,7 +54,10 @@ if (http?.latency) {
 }
 if (http?.series) {
 	const s = http.series;
-	rows.push(['Live view chart data, 100,000 vs 1,000 readings (median)', `${fmt(s.large.median)} ms`, `${fmt(s.small.median)} ms`, `${fmt(s.ratio, 2)}×`, '≤ 1.5×', verdict(s.ratio <= 1.5)]);
+	if (s.largeFresh) {
+		rows.push(['Live view chart data after a new reading, 100,000 vs 1,000 readings (median)', `${fmt(s.largeFresh.median)} ms`, `${fmt(s.smallFresh.median)} ms`, `${fmt(s.ratioFresh, 2)}×`, '≤ 1.5×', verdict(s.ratioFresh <= 1.5)]);
+	}
+	rows.push(['Live view chart data, kept (no new reading), 100,000 vs 1,000 readings (median)', `${fmt(s.large.median)} ms`, `${fmt(s.small.median)} ms`, `${fmt(s.ratio, 2)}×`, '≤ 1.5×', verdict(s.ratio <= 1.5)]);
 }
 if (http?.bundle) {
 	const b = http.bundle;
@@ -151,10 +154,21 @@ ${http.seed.groups} groups of the demo pack).
 
 | session | median ms | p90 ms | min ms | answer bytes | voltage lines |
 |---|---|---|---|---|---|
-| 100,000 readings | ${fmt(s.large.median)} | ${fmt(s.large.p90)} | ${fmt(s.large.min)} | ${whole(s.large.bytes)} | ${s.large.lines ?? '—'} |
-| 1,000 readings | ${fmt(s.small.median)} | ${fmt(s.small.p90)} | ${fmt(s.small.min)} | ${whole(s.small.bytes)} | ${s.small.lines ?? '—'} |
+| 100,000 readings, kept | ${fmt(s.large.median)} | ${fmt(s.large.p90)} | ${fmt(s.large.min)} | ${whole(s.large.bytes)} | ${s.large.lines ?? '—'} |
+| 1,000 readings, kept | ${fmt(s.small.median)} | ${fmt(s.small.p90)} | ${fmt(s.small.min)} | ${whole(s.small.bytes)} | ${s.small.lines ?? '—'} |${
+		s.largeFresh
+			? `
+| 100,000 readings, right after a new reading | ${fmt(s.largeFresh.median)} | ${fmt(s.largeFresh.p90)} | ${fmt(s.largeFresh.min)} | ${whole(s.largeFresh.bytes)} | ${s.largeFresh.lines ?? '—'} |
+| 1,000 readings, right after a new reading | ${fmt(s.smallFresh.median)} | ${fmt(s.smallFresh.p90)} | ${fmt(s.smallFresh.min)} | ${whole(s.smallFresh.bytes)} | ${s.smallFresh.lines ?? '—'} |`
+			: ''
+	}
 
-Ratio of medians ${fmt(s.ratio, 2)}× (target ≤ 1.5×).`);
+"Kept" is a fetch with nothing new (the server's kept buckets answer); "right after a new reading"
+posts one reading through the readings API first, as a live viewer's refetch follows each reading,
+so the kept buckets are brought up to date from the new rows only. Ratios of medians: kept
+${fmt(s.ratio, 2)}×${s.ratioFresh !== undefined ? `, after a new reading ${fmt(s.ratioFresh, 2)}×` : ''} (target ≤ 1.5×). The
+100,000-reading answer is larger (every line has its full 600 points, the default; the short
+session's lines have fewer), which is most of what remains of the gap.`);
 }
 if (http?.bundle) {
 	const b = http.bundle;
