@@ -13,7 +13,7 @@
 import { error } from '@sveltejs/kit';
 import { and, asc, eq, sql, type SQL } from 'drizzle-orm';
 import { createLTTB } from 'downsample';
-import { reestimate, type StepReading } from '$lib/engine';
+import { endSocAtSetVolts, reestimate, type StepReading } from '$lib/engine';
 import type { Member } from '../auth/permissions';
 import { getCellSpec } from '../cell-specs';
 import { db } from '../db';
@@ -417,6 +417,9 @@ async function runningStep(
 			.reverse();
 		if (readings.length > 0 && s.setVolts) {
 			const now = new Date();
+			// The step's start state from the plan (its end state less the amp-hours it puts in), so CC
+			// counts the charge in, as the run screen does (run-view.ts).
+			const startSoc = endSocAtSetVolts(spec.chemistry, s.setVolts / scale) - s.ah / groupAh;
 			const result = reestimate({
 				chemistry: spec.chemistry,
 				capacityAh: groupAh,
@@ -424,7 +427,8 @@ async function runningStep(
 				amps: s.amps!,
 				terminationAmps,
 				readings,
-				now
+				now,
+				...(s.ah > 0 && startSoc >= 0 ? { counted: { startSoc, startedAt: start } } : {})
 			});
 			if (result.ok) {
 				estimate = {
