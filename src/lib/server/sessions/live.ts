@@ -5,11 +5,7 @@
  * browsers connected to any other. The events themselves are sent by `notifySession` (notify.ts)
  * inside the transaction of the change.
  */
-import { and, eq } from 'drizzle-orm';
-import type { Member } from '../auth/permissions';
-import { db, sqlClient } from '../db';
-import { chargeSessions, packs } from '../db/schema';
-import { canSeePack } from '../packs';
+import { sqlClient } from '../db';
 import { SESSION_EVENTS_CHANNEL, type SessionEvent } from './notify';
 
 type Listener = (event: SessionEvent) => void;
@@ -151,30 +147,6 @@ export async function onEverySessionEvent(fn: Listener): Promise<boolean> {
 /** How many subscribers the session has in this process (for tests and diagnostics). */
 export function subscriberCount(sessionId: string): number {
 	return subscribers.get(sessionId)?.size ?? 0;
-}
-
-export type VisibleSession = { id: string; workshopId: string; packId: string; status: string; series: number };
-
-/**
- * The session when the member may view it: in the member's workshop, and for a viewer only when
- * they own the pack. Null otherwise (the caller answers 404, never confirming it exists).
- */
-export async function findVisibleSession(member: Member, sessionId: string): Promise<VisibleSession | null> {
-	const [row] = await db
-		.select({
-			id: chargeSessions.id,
-			workshopId: chargeSessions.workshopId,
-			packId: chargeSessions.packId,
-			status: chargeSessions.status,
-			series: packs.series,
-			packOwnerId: packs.packOwnerId
-		})
-		.from(chargeSessions)
-		.innerJoin(packs, eq(packs.id, chargeSessions.packId))
-		.where(and(eq(chargeSessions.id, sessionId), eq(chargeSessions.workshopId, member.workshop.id)))
-		.limit(1);
-	if (!row || !canSeePack(member, { workshopId: row.workshopId, packOwnerId: row.packOwnerId })) return null;
-	return { id: row.id, workshopId: row.workshopId, packId: row.packId, status: row.status, series: row.series };
 }
 
 /** Seconds between comment lines that keep proxies and the browser from dropping a quiet stream. */

@@ -18,7 +18,8 @@ import type { Member } from '../auth/permissions';
 import { getCellSpec } from '../cell-specs';
 import { db } from '../db';
 import { chargeSessions, packGroups, packs, sessionSteps } from '../db/schema';
-import { findVisibleSession, onEverySessionEvent, type VisibleSession } from './live';
+import { onEverySessionEvent } from './live';
+import { sessionForMember, type ReadingSessionHead as VisibleSession } from './readings';
 
 /** [epoch ms, value]: compact on the wire, and chart.js reads it with `parsing: false` after mapping. */
 export type SeriesPoint = [number, number];
@@ -643,7 +644,7 @@ function forgetSession(sessionId: string) {
 
 /** The session's chart data with at most `points` points per line; 404 when the member may not see it. */
 export async function sessionSeries(member: Member, sessionId: string, points = DEFAULT_POINTS): Promise<SessionSeries> {
-	const visible = await findVisibleSession(member, sessionId);
+	const visible = await sessionForMember(member, sessionId);
 	if (!visible) error(404, 'Not found');
 	const n = Math.max(10, Math.min(MAX_POINTS, Math.floor(points)));
 	cacheListening ??= onEverySessionEvent((event) => forgetSession(event.sessionId));
