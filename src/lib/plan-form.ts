@@ -8,6 +8,7 @@ import { TZDate, tz } from '@date-fns/tz';
 import { format } from 'date-fns';
 import { parseDecimal } from '$lib/cells-csv-columns';
 import type { Limits } from '$lib/engine';
+import { isLooser, limitOrder, namesValue, UNDER_BELOW_OVER, type LimitKey } from '$lib/limit-rules';
 import type { SessionKind, SessionPlanInput, SessionTarget } from '$lib/session-plan';
 
 /** A daily window, 'HH:MM' wall-clock times ("07:00"–"23:00"; a night watch "22:00"–"07:00"). */
@@ -15,7 +16,7 @@ export type DailyRow = { from: string; to: string };
 /** A one-off window, 'YYYY-MM-DDTHH:MM' wall-clock times in the workshop's zone. */
 export type OnceRow = { start: string; end: string };
 
-export type LimitKey = keyof Limits;
+export type { LimitKey } from '$lib/limit-rules';
 
 export type PlanFormValues = {
 	packId: string;
@@ -100,20 +101,20 @@ export function numberFrom(text: string | null | undefined): number | null {
 	return parseDecimal(text);
 }
 
-/** How each limit reads on the form, and which way is looser (past the default needs a confirmation). */
-export const limitFields: { key: LimitKey; label: string; unit: string; looser: 'higher' | 'lower' }[] = [
-	{ key: 'overVoltsWarning', label: 'Over-voltage watch, per cell', unit: 'V', looser: 'higher' },
-	{ key: 'overVoltsCritical', label: 'Over-voltage act now, per cell', unit: 'V', looser: 'higher' },
-	{ key: 'underVoltsWarning', label: 'Under-voltage, per cell', unit: 'V', looser: 'lower' },
-	{ key: 'tempWarningC', label: 'Temperature watch', unit: '°C', looser: 'higher' },
-	{ key: 'tempCriticalC', label: 'Temperature act now', unit: '°C', looser: 'higher' },
-	{ key: 'minChargeTempC', label: 'No charging below', unit: '°C', looser: 'lower' },
-	{ key: 'heatRiseCPerMinute', label: 'Temperature rise per minute', unit: '°C', looser: 'higher' },
-	{ key: 'heatAboveAmbientC', label: 'Above the room temperature', unit: '°C', looser: 'higher' },
-	{ key: 'driftWarningVolts', label: 'Spread between groups, watch', unit: 'V', looser: 'higher' },
-	{ key: 'driftCriticalVolts', label: 'Spread between groups, act now', unit: 'V', looser: 'higher' },
-	{ key: 'readingGraceMinutes', label: 'A reading is late after', unit: 'min', looser: 'higher' },
-	{ key: 'overrunFactor', label: 'A step overruns past its expected time ×', unit: '', looser: 'higher' }
+/** How each limit reads on the form (which way is looser: limitMeta in limit-rules.ts). */
+export const limitFields: { key: LimitKey; label: string; unit: string }[] = [
+	{ key: 'overVoltsWarning', label: 'Over-voltage watch, per cell', unit: 'V' },
+	{ key: 'overVoltsCritical', label: 'Over-voltage act now, per cell', unit: 'V' },
+	{ key: 'underVoltsWarning', label: 'Under-voltage, per cell', unit: 'V' },
+	{ key: 'tempWarningC', label: 'Temperature watch', unit: '°C' },
+	{ key: 'tempCriticalC', label: 'Temperature act now', unit: '°C' },
+	{ key: 'minChargeTempC', label: 'No charging below', unit: '°C' },
+	{ key: 'heatRiseCPerMinute', label: 'Temperature rise per minute', unit: '°C' },
+	{ key: 'heatAboveAmbientC', label: 'Above the room temperature', unit: '°C' },
+	{ key: 'driftWarningVolts', label: 'Spread between groups, watch', unit: 'V' },
+	{ key: 'driftCriticalVolts', label: 'Spread between groups, act now', unit: 'V' },
+	{ key: 'readingGraceMinutes', label: 'A reading is late after', unit: 'min' },
+	{ key: 'overrunFactor', label: 'A step overruns past its expected time ×', unit: '' }
 ];
 
 export type LoosenedLimit = { key: LimitKey; label: string; unit: string; defaultValue: number; value: number };
@@ -147,20 +148,14 @@ export function mergeLimits(
 		limits[f.key] = value;
 		overrides[f.key] = value;
 		const def = defaults[f.key];
-		const isLooser = f.looser === 'higher' ? value > def + 1e-9 : value < def - 1e-9;
-		if (isLooser) loosened.push({ key: f.key, label: f.label, unit: f.unit, defaultValue: def, value });
+		if (isLooser(f.key, value, def)) loosened.push({ key: f.key, label: f.label, unit: f.unit, defaultValue: def, value });
 	}
 	// A watch level past its act-now level would never be seen first (the server refuses it too).
-	const pairs: [LimitKey, LimitKey, string][] = [
-		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage watch level must not be above the act-now level.'],
-		['tempWarningC', 'tempCriticalC', 'The temperature watch level must not be above the act-now level.'],
-		['driftWarningVolts', 'driftCriticalVolts', 'The spread watch level must not be above the act-now level.']
-	];
-	for (const [watch, actNow, message] of pairs) {
+	for (const [watch, actNow, message] of limitOrder) {
 		if (limits[watch] > limits[actNow] && !errors[`limits.${watch}`] && !errors[`limits.${actNow}`]) errors[`limits.${watch}`] = message;
 	}
 	if (limits.underVoltsWarning >= limits.overVoltsWarning && !errors['limits.underVoltsWarning']) {
-		errors['limits.underVoltsWarning'] = 'The under-voltage level must be below the over-voltage watch level.';
+		errors['limits.underVoltsWarning'] = UNDER_BELOW_OVER;
 	}
 	return { limits, overrides, loosened, errors };
 }
@@ -171,8 +166,7 @@ export function mergeLimits(
  */
 export function confirmationNamesValues(confirmation: string, loosened: LoosenedLimit[]): boolean {
 	if (loosened.length === 0) return true;
-	const numbers = (confirmation.match(/\d+(?:[.,]\d+)?/g) ?? []).map((n) => Number(n.replace(',', '.')));
-	return loosened.every((l) => numbers.some((n) => Math.abs(n - Math.abs(l.value)) < 1e-9));
+	return loosened.every((l) => namesValue(confirmation, l.value));
 }
 
 /** The sentence that asks for a confirmation of the loosened limits, naming them and their defaults. */

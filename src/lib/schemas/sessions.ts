@@ -14,6 +14,9 @@ import type { Limits } from '$lib/engine';
 import { sessionKinds, sessionTargets } from '$lib/session-plan';
 import { recordId } from './packs';
 import { lineText } from './text';
+import { isLooser, limitMeta, limitOrder, namesValue, UNDER_BELOW_OVER } from '$lib/limit-rules';
+
+export { limitMeta };
 
 const number = (what: string) => z.number(`${what} must be a number.`);
 const between = (what: string, min: number, max: number, unit = '') =>
@@ -99,36 +102,7 @@ export const limitOverridesSchema = z
 export type LimitOverrides = z.output<typeof limitOverridesSchema>;
 export type LimitKey = keyof LimitOverrides;
 
-/**
- * Which way each limit loosens (alerts later or never): 'up' when a higher value is looser. The
- * words name it in messages.
- */
-export const limitMeta: Record<LimitKey, { looser: 'up' | 'down'; words: string; unit: string }> = {
-	overVoltsWarning: { looser: 'up', words: 'over-voltage watch limit', unit: 'V' },
-	overVoltsCritical: { looser: 'up', words: 'over-voltage act-now limit', unit: 'V' },
-	underVoltsWarning: { looser: 'down', words: 'under-voltage limit', unit: 'V' },
-	tempWarningC: { looser: 'up', words: 'temperature watch limit', unit: '°C' },
-	tempCriticalC: { looser: 'up', words: 'temperature act-now limit', unit: '°C' },
-	minChargeTempC: { looser: 'down', words: 'lowest charging temperature', unit: '°C' },
-	heatRiseCPerMinute: { looser: 'up', words: 'temperature rise limit', unit: '°C per minute' },
-	heatAboveAmbientC: { looser: 'up', words: 'limit above room temperature', unit: '°C' },
-	driftWarningVolts: { looser: 'up', words: 'group spread watch limit', unit: 'V' },
-	driftCriticalVolts: { looser: 'up', words: 'group spread act-now limit', unit: 'V' },
-	readingGraceMinutes: { looser: 'up', words: 'grace for a late reading', unit: 'minutes' },
-	overrunFactor: { looser: 'up', words: 'overrun factor', unit: '×' }
-};
-
 const round3 = (v: number) => String(Math.round(v * 1000) / 1000);
-
-/**
- * True when the text names the value: a number in it equal to its size (a decimal comma counts;
- * the sign is not read, so "−5 °C", "-5 °C" and "5 °C below zero" all name −5 — as the plan form
- * checks it, src/lib/plan-form.ts).
- */
-function namesValue(text: string, value: number): boolean {
-	const numbers = text.match(/\d+(?:[.,]\d+)?/g) ?? [];
-	return numbers.some((n) => Math.abs(Number(n.replace(',', '.')) - Math.abs(value)) < 1e-6);
-}
 
 export type LimitProblem = { key: LimitKey; message: string };
 
@@ -145,8 +119,7 @@ export function limitProblems(defaults: Limits, overrides: LimitOverrides, confi
 		if (value === undefined || !(key in limitMeta)) continue;
 		const meta = limitMeta[key];
 		const usual = defaults[key];
-		const looser = meta.looser === 'up' ? value > usual + 1e-9 : value < usual - 1e-9;
-		if (looser && !namesValue(confirmation, value)) {
+		if (isLooser(key, value, usual) && !namesValue(confirmation, value)) {
 			const v = `${round3(value)} ${meta.unit}`;
 			problems.push({
 				key,
@@ -155,15 +128,8 @@ export function limitProblems(defaults: Limits, overrides: LimitOverrides, confi
 		}
 	}
 	const merged = { ...defaults, ...overrides };
-	const order: [LimitKey, LimitKey, string][] = [
-		['overVoltsWarning', 'overVoltsCritical', 'The over-voltage watch limit must not be above its act-now limit.'],
-		['tempWarningC', 'tempCriticalC', 'The temperature watch limit must not be above its act-now limit.'],
-		['driftWarningVolts', 'driftCriticalVolts', 'The group spread watch limit must not be above its act-now limit.']
-	];
-	for (const [warning, stop, message] of order) if (merged[warning] > merged[stop]) problems.push({ key: warning, message });
-	if (merged.underVoltsWarning >= merged.overVoltsWarning) {
-		problems.push({ key: 'underVoltsWarning', message: 'The under-voltage limit must be below the over-voltage watch limit.' });
-	}
+	for (const [warning, stop, message] of limitOrder) if (merged[warning] > merged[stop]) problems.push({ key: warning, message });
+	if (merged.underVoltsWarning >= merged.overVoltsWarning) problems.push({ key: 'underVoltsWarning', message: UNDER_BELOW_OVER });
 	return problems;
 }
 
