@@ -1,7 +1,7 @@
 import { error, fail, redirect } from '@sveltejs/kit';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { guardActions } from '$lib/server/input-problems';
-import { getSession, loadPlanContext, updateSession } from '$lib/server/sessions/core';
+import { getSession, loadPlanContext, savedPlanValues, updateSession } from '$lib/server/sessions/core';
 import { sessionPatchSchema } from '$lib/schemas/sessions';
 import { readPlanBody } from '../../new/plan-action.server';
 import type { Actions, PageServerLoad } from './$types';
@@ -12,15 +12,15 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const s = detail.session;
 	const editable = s.status === 'draft' || s.status === 'planned';
 	const context = editable ? await loadPlanContext(member, s.packId) : null;
-	const overrides = (s.planSummary as { limitOverrides?: Record<string, number> }).limitOverrides ?? {};
+	const { limitOverrides, ...values } = savedPlanValues(s);
 	return {
 		sessionId: s.id,
 		status: s.status,
 		packName: detail.pack.name,
 		context,
-		// The row's plan fields fill the form (formValuesFrom reads what it needs).
-		saved: { ...s, startVolts: { ...(context?.startVolts ?? {}), ...s.startVolts } },
-		overrides
+		// The session's plan fields fill the form (not the whole row).
+		saved: { ...values, packId: s.packId, startVolts: { ...(context?.startVolts ?? {}), ...s.startVolts } },
+		overrides: limitOverrides
 	};
 };
 
