@@ -1,6 +1,7 @@
 import { sql } from 'drizzle-orm';
 import {
 	bigint,
+	boolean,
 	check,
 	integer,
 	index,
@@ -89,10 +90,13 @@ export const workshops = pgTable(
 		name: text('name').notNull(),
 		slug: text('slug').notNull(),
 		timeZone: text('time_zone').notNull(),
+		/** Minutes a critical alert may stay unacknowledged before it goes to every owner. */
+		escalationMinutes: integer('escalation_minutes').notNull().default(10),
 		createdAt: createdAt()
 	},
 	(t) => [
 		uniqueIndex('workshops_slug_key').on(t.slug),
+		check('workshops_escalation_minutes', sql`${t.escalationMinutes} between 1 and 240`),
 		check('workshops_slug_format', sql`${t.slug} ~ '^[a-z0-9](?:[a-z0-9-]{0,46}[a-z0-9])?$'`),
 		check('workshops_name_length', sql`char_length(${t.name}) between 1 and 80`)
 	]
@@ -111,10 +115,20 @@ export const memberships = pgTable(
 			.notNull()
 			.references(() => users.id, { onDelete: 'cascade' }),
 		role: roleEnum('role').notNull(),
+		/** Alert channels this member wants in this workshop (push goes to each device they subscribed). */
+		emailAlerts: boolean('email_alerts').notNull().default(true),
+		pushAlerts: boolean('push_alerts').notNull().default(true),
+		/** Quiet time in the workshop's zone ("22:00"–"07:00"): holds back information alerts only. */
+		quietFrom: text('quiet_from'),
+		quietTo: text('quiet_to'),
 		createdAt: createdAt()
 	},
 	(t) => [
 		primaryKey({ columns: [t.workshopId, t.userId] }),
+		check(
+			'memberships_quiet_time',
+			sql`(${t.quietFrom} is null) = (${t.quietTo} is null) and (${t.quietFrom} is null or (${t.quietFrom} ~ '^([01][0-9]|2[0-3]):[0-5][0-9]$' and ${t.quietTo} ~ '^([01][0-9]|2[0-3]):[0-5][0-9]$'))`
+		),
 		index('memberships_user_idx').on(t.userId)
 	]
 );

@@ -2,3 +2,4 @@ export * from './accounts';
 export * from './packs';
 export * from './chargers';
 export * from './sessions';
+export * from './alerts';
