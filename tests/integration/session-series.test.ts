@@ -14,7 +14,7 @@ import { newId } from '$lib/server/ids';
 import { checkListening, listenerBackendPid, subscribe, subscriberCount } from '$lib/server/sessions/live';
 import { notifySession, type SessionEvent } from '$lib/server/sessions/notify';
 import { editReading } from '$lib/server/sessions/readings';
-import { forgetCachedSeries, forgetSeriesState, keptSeriesState, plannedCurrent, type SessionSeries } from '$lib/server/sessions/series';
+import { forgetCachedSeries, forgetSeriesState, keptSeriesState, plannedCurrent, sessionSeries, sessionSeriesJson, type SessionSeries } from '$lib/server/sessions/series';
 import { GET as eventsGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/events/+server';
 import { GET as seriesGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/series/+server';
 import { apiEvent, joinAs, packFixture } from './helpers';
@@ -145,6 +145,8 @@ describe('session chart data', () => {
 		expect(packLine?.label).toBe('Whole pack (per cell)');
 		expect(packLine?.points).toEqual([[t0 + 3 * MINUTE, 3.8]]);
 		expect(body.step).toBeNull();
+		// The answer is pieced together from each line's kept JSON: the same text JSON.stringify gives.
+		expect(await sessionSeriesJson(owner, session.id)).toBe(JSON.stringify(await sessionSeries(owner, session.id)));
 
 		// Kept for the next viewer until the session's next event, then computed again.
 		await insertReadings(session.id, pack.id, [{ groupId: g1.id, takenAt: new Date(t0 + 5 * MINUTE), volts: 4.01 }]);

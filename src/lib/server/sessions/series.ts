@@ -72,6 +72,21 @@ export const MAX_POINTS = 2000;
 
 const lttb = createLTTB<SeriesPoint>({ x: 0, y: 1 });
 
+/**
+ * Values to the resolution a bench meter gives, so the answer carries no float noise: volts to
+ * 0.1 mV, amps to 1 mA, °C to 0.01. A chart of a long session is most of its bytes.
+ */
+const VOLT_DIGITS = 4;
+const AMP_DIGITS = 3;
+const DEGREE_DIGITS = 2;
+function roundPoints(points: SeriesPoint[], digits: number): SeriesPoint[] {
+	const f = 10 ** digits;
+	return points.map(([t, v]) => [t, Math.round(v * f) / f]);
+}
+
+/** The answer, and the same as JSON text. */
+type SeriesAnswer = { series: SessionSeries; json: string };
+
 /** LTTB down to `points` (the library keeps the first and last point); shorter lines stay whole. */
 export function downsampleLine(line: SeriesPoint[], points: number): SeriesPoint[] {
 	if (line.length <= points) return line;
@@ -399,7 +414,7 @@ async function runningStep(
 		db.execute(sql`select taken_at as "at", volts, amps from readings
 			where ${where} and volts is not null and amps is not null order by taken_at desc limit 200`)
 	]);
-	const actualAmps = downsampleLine(buckets.points(s.groupId, 'amps'), points);
+	const actualAmps = roundPoints(downsampleLine(buckets.points(s.groupId, 'amps'), points), AMP_DIGITS);
 
 	const charging = (s.role === 'charge' || s.role === 'top-up') && (s.amps ?? 0) > 0;
 	let predictedAmps: SeriesPoint[] = [];
@@ -409,7 +424,10 @@ async function runningStep(
 		const spec = await getCellSpec(member, pack.cellSpecId);
 		const groupAh = spec.capacityAh * pack.parallel;
 		const terminationAmps = spec.chemistry.terminationC * groupAh;
-		predictedAmps = plannedCurrent(start.getTime(), { amps: s.amps!, preHours: s.preHours, ccHours: s.ccHours, cvHours: s.cvHours }, terminationAmps);
+		predictedAmps = roundPoints(
+			plannedCurrent(start.getTime(), { amps: s.amps!, preHours: s.preHours, ccHours: s.ccHours, cvHours: s.cvHours }, terminationAmps),
+			AMP_DIGITS
+		);
 		predictedBasis =
 			`Planned current: ${round(s.amps!, 2)} A (CC) for ${hoursText(s.preHours + s.ccHours)}, ` +
 			`then CV tapering to ${round(terminationAmps, 2)} A over ${hoursText(s.cvHours)} — the plan's figures from the engine.`;
@@ -472,6 +490,7 @@ async function runningStep(
  * depends on NOTIFY: an instance that missed events catches up exactly on its next refresh.
  */
 type StepView = { key: string; groupId: string | null; from: number; buckets: Buckets };
+type KeptLine = { stamp: number; points: SeriesPoint[]; json: string };
 type SeriesState = {
 	sessionId: string;
 	n: number;
@@ -485,8 +504,11 @@ type SeriesState = {
 	edits: number;
 	usedAt: number;
 	lock: Promise<unknown>;
-	/** Downsampled lines by quantity and group, reused while their buckets have not changed. */
-	lines: Map<string, { stamp: number; points: SeriesPoint[] }>;
+	/**
+	 * Downsampled lines by quantity and group, rounded, with their points already written as JSON:
+	 * reused while their buckets have not changed, so a new reading re-serialises one group's lines.
+	 */
+	lines: Map<string, KeptLine>;
 };
 
 const MAX_STATES = 50;
@@ -635,7 +657,7 @@ async function stepBuckets(state: SeriesState, view: Omit<StepView, 'buckets'>, 
  */
 const CACHE_MS = 60_000;
 const CACHE_ENTRIES = 100;
-const cache = new Map<string, { at: number; value: Promise<SessionSeries> }>();
+const cache = new Map<string, { at: number; value: Promise<SeriesAnswer> }>();
 let cacheListening: Promise<boolean> | undefined;
 
 function forgetSession(sessionId: string) {
@@ -644,6 +666,15 @@ function forgetSession(sessionId: string) {
 
 /** The session's chart data with at most `points` points per line; 404 when the member may not see it. */
 export async function sessionSeries(member: Member, sessionId: string, points = DEFAULT_POINTS): Promise<SessionSeries> {
+	return (await seriesAnswer(member, sessionId, points)).series;
+}
+
+/** The same as JSON text, kept with it, so that a viewer's refetch with nothing new serialises nothing. */
+export async function sessionSeriesJson(member: Member, sessionId: string, points = DEFAULT_POINTS): Promise<string> {
+	return (await seriesAnswer(member, sessionId, points)).json;
+}
+
+async function seriesAnswer(member: Member, sessionId: string, points: number): Promise<SeriesAnswer> {
 	const visible = await sessionForMember(member, sessionId);
 	if (!visible) error(404, 'Not found');
 	const n = Math.max(10, Math.min(MAX_POINTS, Math.floor(points)));
@@ -677,7 +708,7 @@ export function keptSeriesState(sessionId: string, points: number) {
 	return state && { builtAt: state.builtAt, level: state.main.level, buckets: state.main.size, cursor: state.base };
 }
 
-function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SessionSeries> {
+function computeSeries(member: Member, visible: VisibleSession, n: number): Promise<SeriesAnswer> {
 	const state = stateFor(visible.id, n);
 	return withState(state, async () => {
 		try {
@@ -689,7 +720,7 @@ function computeSeries(member: Member, visible: VisibleSession, n: number): Prom
 	});
 }
 
-async function seriesFromState(member: Member, visible: VisibleSession, n: number, state: SeriesState): Promise<SessionSeries> {
+async function seriesFromState(member: Member, visible: VisibleSession, n: number, state: SeriesState): Promise<SeriesAnswer> {
 	const [[row], groups] = await Promise.all([
 		db
 			.select({ limits: chargeSessions.limits, series: packs.series, parallel: packs.parallel, cellSpecId: packs.cellSpecId })
@@ -700,13 +731,21 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 		refresh(state)
 	]);
 	const main = state.main;
-	// A new reading changes one group's lines: the others are reused as they were downsampled.
-	const line = (key: string, stamp: number, points: () => SeriesPoint[]) => {
+	// A new reading changes one group's lines: the others are reused as they were downsampled,
+	// rounded and written out.
+	const keptLine = (key: string, stamp: number, digits: number, points: () => SeriesPoint[]): KeptLine => {
 		const kept = state.lines.get(key);
-		if (kept && kept.stamp === stamp) return kept.points;
-		const fresh = downsampleLine(points(), n);
-		state.lines.set(key, { stamp, points: fresh });
-		return fresh;
+		if (kept && kept.stamp === stamp) return kept;
+		const fresh = roundPoints(downsampleLine(points(), n), digits);
+		const made = { stamp, points: fresh, json: JSON.stringify(fresh) };
+		state.lines.set(key, made);
+		return made;
+	};
+	const json = new Map<SeriesPoint[], string>();
+	const line = (key: string, stamp: number, digits: number, points: () => SeriesPoint[]) => {
+		const kept = keptLine(key, stamp, digits, points);
+		json.set(kept.points, kept.json);
+		return kept.points;
 	};
 	const indexOf = new Map(groups.map((g) => [g.id, g.index]));
 	const lineKeys = [...main.groups.keys()].sort(
@@ -718,12 +757,12 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 	for (const groupId of lineKeys) {
 		const stamp = main.stamp(groupId);
 		// Whole-pack readings are pack volts: ÷ groups in series for a per-cell chart.
-		const v = line(`volts:${groupId ?? ''}`, stamp, () => main.points(groupId, 'volts', groupId === null ? row.series : 1));
+		const v = line(`volts:${groupId ?? ''}`, stamp, VOLT_DIGITS, () => main.points(groupId, 'volts', groupId === null ? row.series : 1));
 		if (v.length) volts.push({ key: groupId ?? 'pack', label: label(groupId), points: v });
-		const t = line(`temp_c:${groupId ?? ''}`, stamp, () => main.points(groupId, 'temp_c'));
+		const t = line(`temp_c:${groupId ?? ''}`, stamp, DEGREE_DIGITS, () => main.points(groupId, 'temp_c'));
 		if (t.length) temps.push({ key: groupId ?? 'pack', label: label(groupId), points: t });
 	}
-	const ambient = line('ambient', main.stamp(), () => main.pointsOfAll('ambient_c'));
+	const ambient = line('ambient', main.stamp(), DEGREE_DIGITS, () => main.pointsOfAll('ambient_c'));
 	if (ambient.length) temps.push({ key: 'ambient', label: 'Ambient', points: ambient });
 	let lo = Infinity;
 	let hi = -Infinity;
@@ -743,14 +782,23 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 	];
 	const limits: SeriesLimits = {};
 	for (const key of limitsKeys) if (typeof row.limits[key] === 'number') limits[key] = row.limits[key];
-	return {
+	const series: SessionSeries = {
 		points: n,
 		from: lo === Infinity ? null : new Date(lo).toISOString(),
 		to: hi === -Infinity ? null : new Date(hi).toISOString(),
 		volts,
-		spread: line('spread', main.stamp(), () => main.spread()),
+		spread: line('spread', main.stamp(), VOLT_DIGITS, () => main.spread()),
 		temps,
 		limits,
 		step: await runningStep(member, visible, row, n, state)
 	};
+	// The answer as JSON, from the kept lines' JSON: the same text as JSON.stringify(series).
+	const points = (p: SeriesPoint[]) => json.get(p) ?? JSON.stringify(p);
+	const lines = (list: SeriesLine[]) =>
+		`[${list.map((l) => `{"key":${JSON.stringify(l.key)},"label":${JSON.stringify(l.label)},"points":${points(l.points)}}`).join(',')}]`;
+	const text =
+		`{"points":${n},"from":${JSON.stringify(series.from)},"to":${JSON.stringify(series.to)},` +
+		`"volts":${lines(volts)},"spread":${points(series.spread)},"temps":${lines(temps)},` +
+		`"limits":${JSON.stringify(limits)},"step":${JSON.stringify(series.step)}}`;
+	return { series, json: text };
 }
