@@ -2,6 +2,7 @@ import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
 import { recordId } from '$lib/schemas/packs';
 import { lineText } from '$lib/schemas/text';
+import { watcherPanel } from '$lib/server/alerts/recipients';
 import { requireMemberWith } from '$lib/server/auth/permissions';
 import { readForm } from '$lib/server/form-input';
 import { guardActions } from '$lib/server/input-problems';
@@ -27,7 +28,7 @@ export const load: PageServerLoad = async ({ locals, params, url, depends }) => 
 	const detail = await getSession(member, params.sessionId);
 	const { session, pack } = detail;
 	const runningIds = detail.steps.filter((s) => s.status === 'running').map((s) => s.id);
-	const readings = await loadRunReadings(session.id, runningIds);
+	const [readings, watchers] = await Promise.all([loadRunReadings(session.id, runningIds), watcherPanel(member, session.id)]);
 	const now = new Date();
 	const view = buildRunView({ session, pack, groups: detail.groups, steps: detail.steps, readings, now });
 	return {
@@ -47,6 +48,7 @@ export const load: PageServerLoad = async ({ locals, params, url, depends }) => 
 		groups: detail.groups,
 		view,
 		watch: detail.watch,
+		watchers,
 		chargerName: detail.chargerName,
 		permissions: detail.permissions,
 		me: member.user.id,
