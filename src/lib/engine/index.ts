@@ -61,3 +61,22 @@ export {
 	type MatchInputCell
 } from './cells';
 export { packRatings, type PackCell, type PackRatings } from './pack';
+export {
+	conditionKey,
+	escalatesAt,
+	escalationDue,
+	reconcileAlerts,
+	type ActiveAlert,
+	type AlertScope,
+	type EscalationState,
+	type FoundCondition,
+	type Reconciliation
+} from './alert-rules';
+export {
+	compareSessions,
+	type CompareSessionsInput,
+	type GroupDrift,
+	type SessionComparison,
+	type SessionDriftDraft,
+	type SessionSnapshot
+} from './compare-sessions';
