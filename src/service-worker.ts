@@ -134,3 +134,68 @@ sw.addEventListener('message', (event) => {
 		)
 	);
 });
+
+/**
+ * Alerts by web push. The payload is the server's JSON (src/lib/server/push.ts, PushPayload). A
+ * push must always show a notification (browsers revoke the subscription of a worker that shows
+ * none), so an unreadable payload still shows a plain one that opens the alerts.
+ */
+type AlertPush = { title: string; body: string; url: string; tag: string; severity: 'info' | 'warning' | 'critical'; alertId?: string };
+
+function readPush(data: PushMessageData | null): AlertPush | null {
+	try {
+		const value = data?.json() as Partial<Record<keyof AlertPush, unknown>> | undefined;
+		if (!value || typeof value !== 'object') return null;
+		const { title, body, url, tag, severity, alertId } = value;
+		if (typeof title !== 'string' || typeof body !== 'string' || typeof url !== 'string' || typeof tag !== 'string') return null;
+		if (severity !== 'info' && severity !== 'warning' && severity !== 'critical') return null;
+		return { title, body, url, tag, severity, alertId: typeof alertId === 'string' ? alertId : undefined };
+	} catch {
+		return null;
+	}
+}
+
+/** A same-origin path to open, or the start page for anything else (never another site). */
+function sameOriginUrl(raw: unknown): string {
+	if (typeof raw !== 'string') return '/';
+	try {
+		const url = new URL(raw, sw.location.origin);
+		return url.origin === sw.location.origin ? url.href : '/';
+	} catch {
+		return '/';
+	}
+}
+
+sw.addEventListener('push', (event) => {
+	const alert = readPush(event.data);
+	const critical = alert?.severity === 'critical';
+	// `renotify` is in the Notifications spec but not yet in TypeScript's lib.
+	const options: NotificationOptions & { renotify?: boolean } = {
+		body: alert?.body || 'Open Cellsitter to see what happened.',
+		// Never empty: a notification that renotifies must have a tag, or showing it fails.
+		tag: alert?.tag || 'cellsitter-alert',
+		data: { url: sameOriginUrl(alert?.url ?? '/'), alertId: alert?.alertId },
+		icon: '/icons/icon-192.png',
+		badge: '/icons/badge-96.png',
+		// A critical alert stays on screen until someone acts, and sounds again when it replaces one.
+		requireInteraction: critical,
+		renotify: critical
+	};
+	event.waitUntil(sw.registration.showNotification(alert?.title || 'Cellsitter alert', options));
+});
+
+sw.addEventListener('notificationclick', (event) => {
+	event.notification.close();
+	const target = sameOriginUrl((event.notification.data as { url?: unknown } | null)?.url);
+	event.waitUntil(
+		(async () => {
+			const windows = await sw.clients.matchAll({ type: 'window', includeUncontrolled: true });
+			const open = windows.find((w) => w.url === target);
+			if (open) {
+				await open.focus();
+				return;
+			}
+			await sw.clients.openWindow(target);
+		})()
+	);
+});
