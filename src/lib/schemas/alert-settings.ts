@@ -32,7 +32,7 @@ function checkQuietPair(v: Quiet, ctx: z.RefinementCtx, emptyMeansUnset: boolean
 		return;
 	}
 	if ((v.quietFrom === null) !== (v.quietTo === null)) {
-		ctx.addIssue({ code: 'custom', path: [v.quietFrom === null ? 'quietTo' : 'quietFrom'], message: bothOrNeither });
+		ctx.addIssue({ code: 'custom', path: [v.quietFrom === null ? 'quietFrom' : 'quietTo'], message: bothOrNeither });
 		return;
 	}
 	if (from && v.quietFrom && v.quietFrom === v.quietTo) ctx.addIssue({ code: 'custom', path: ['quietTo'], message: sameTimes });
@@ -79,9 +79,10 @@ export const ESCALATION_MINUTES = { min: 1, max: 240, default: 10 } as const;
 const escalationMessage = `Give a whole number of minutes from ${ESCALATION_MINUTES.min} to ${ESCALATION_MINUTES.max}.`;
 
 export const escalationSchema = z.object({
+	// A refine, not .int(): superforms reads an integer field with parseInt, which would take 15.5 as 15.
 	escalationMinutes: z
 		.number(escalationMessage)
-		.int(escalationMessage)
+		.refine(Number.isInteger, escalationMessage)
 		.min(ESCALATION_MINUTES.min, escalationMessage)
 		.max(ESCALATION_MINUTES.max, escalationMessage)
 });

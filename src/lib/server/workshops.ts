@@ -80,3 +80,9 @@ export async function updateWorkshop(member: Member, input: { name: string; time
 		.set({ name: input.name.trim(), timeZone: input.timeZone })
 		.where(eq(workshops.id, member.workshop.id));
 }
+
+/** Minutes a critical alert may stay unacknowledged before it goes to every owner (workshop.edit; 1–240). */
+export async function setEscalationMinutes(member: Member, minutes: number) {
+	requirePermission(member, 'workshop.edit');
+	await db.update(workshops).set({ escalationMinutes: minutes }).where(eq(workshops.id, member.workshop.id));
+}
