@@ -72,18 +72,18 @@ stop_pid() {
 # When fakes already answer on <http port> (another `npm start` / `npm run dev`), they are
 # reused if <reuse> is "reuse" and FAKES_PID stays empty (not ours to stop).
 start_fakes() {
-	local smtp_port="$1" http_port="$2" log="$3" reuse="${4:-}"
+	local smtp_port="$1" http_port="$2" push_port="$3" log="$4" reuse="${5:-}"
 	FAKES_PID=
-	if port_in_use "$http_port" || port_in_use "$smtp_port"; then
-		if [ "$reuse" = reuse ] && wait_for_http "http://127.0.0.1:$http_port/health" 2 && port_in_use "$smtp_port"; then
-			say "Local fakes already running on 127.0.0.1:$http_port / :$smtp_port; using them."
+	if port_in_use "$http_port" || port_in_use "$smtp_port" || port_in_use "$push_port"; then
+		if [ "$reuse" = reuse ] && wait_for_http "http://127.0.0.1:$http_port/health" 2 && port_in_use "$smtp_port" && port_in_use "$push_port"; then
+			say "Local fakes already running on 127.0.0.1:$http_port / :$smtp_port / :$push_port; using them."
 			return 0
 		fi
-		say "Port $http_port or $smtp_port on 127.0.0.1 is taken by another program, so the local fakes cannot start."
+		say "Port $http_port, $smtp_port or $push_port on 127.0.0.1 is taken by another program, so the local fakes cannot start."
 		say "Free those ports (find the program with: ss -ltnp) and try again."
 		return 1
 	fi
-	FAKE_SMTP_PORT="$smtp_port" FAKE_HTTP_PORT="$http_port" \
+	FAKE_SMTP_PORT="$smtp_port" FAKE_HTTP_PORT="$http_port" FAKE_PUSH_PORT="$push_port" \
 		node "$PROJECT_DIR/tests/fakes/server.js" </dev/null >"$log" 2>&1 &
 	FAKES_PID=$!
 	if ! wait_for_http "http://127.0.0.1:$http_port/health" 15 "$FAKES_PID"; then

@@ -7,6 +7,7 @@ cd "$PROJECT_DIR"
 
 readonly FAKES_HTTP_PORT=9410
 readonly FAKES_SMTP_PORT=2525
+readonly FAKES_PUSH_PORT=9443
 
 FAKES_PID=
 trap 'stop_pid "$FAKES_PID" "local fakes"' EXIT
@@ -19,7 +20,7 @@ main() {
 
 	local password
 	password="$(demo_password)"
-	start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$DATA_DIR/fakes.log" reuse
+	start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$FAKES_PUSH_PORT" "$DATA_DIR/fakes.log" reuse
 
 	export DATABASE_URL
 	DATABASE_URL="$(bash scripts/pg.sh url)"

@@ -2,7 +2,7 @@
 # `npm start`: everything a newcomer needs, then the built app on http://127.0.0.1:3000.
 #
 # Installs what is missing (npm packages, PostgreSQL), starts the project's database and the
-# local fakes (mail, sign-in provider), builds, and serves. The server applies migrations
+# local fakes (mail, sign-in provider, push service), builds, and serves. The server applies migrations
 # and loads the demo workshop itself. Ctrl-C stops the server and the fakes; the database
 # keeps running until `npm run db:stop`.
 #
@@ -25,6 +25,7 @@ fi
 CA_FILE=
 readonly FAKES_HTTP_PORT=9410
 readonly FAKES_SMTP_PORT=2525
+readonly FAKES_PUSH_PORT=9443
 
 SERVER_PID=
 FAKES_PID=
@@ -83,7 +84,7 @@ main() {
 	database_url="$(bash scripts/pg.sh url)"
 	password="$(demo_password)"
 
-	start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$DATA_DIR/fakes.log" reuse
+	start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$FAKES_PUSH_PORT" "$DATA_DIR/fakes.log" reuse
 
 	export PORT="$APP_PORT" HOST="$APP_HOST"
 	if [ "$HTTPS" = 1 ]; then
@@ -107,7 +108,7 @@ main() {
 		printf '(also offered at %s/cellsitter-ca.crt); docs/deploy.md has the steps.\n' "$ORIGIN"
 	fi
 	print_demo_sign_ins "$password"
-	printf '\nMail sent by the app (invitations, password resets) lands in the local mailbox: %s/fakes/mailbox\n' "$ORIGIN"
+	printf '\nMail and push notifications sent by the app land in the local mailbox: %s/fakes/mailbox\n' "$ORIGIN"
 	printf 'Press Ctrl-C to stop. The database keeps running; npm run db:stop stops it.\n\n'
 
 	local status=0

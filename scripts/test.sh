@@ -11,12 +11,13 @@ set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$PROJECT_DIR"
 
-# Ports of the test run: apart from npm start's (3000 / 9410 / 2525 / 54329), so tests can
+# Ports of the test run: apart from npm start's (3000 / 9410 / 2525 / 9443 / 54329), so tests can
 # run while the app is up.
 readonly E2E_PORT=3100
 readonly E2E_URL="http://127.0.0.1:$E2E_PORT"
 readonly FAKES_HTTP_PORT=9420
 readonly FAKES_SMTP_PORT=2535
+readonly FAKES_PUSH_PORT=9453
 readonly FAKES_URL_TEST="http://127.0.0.1:$FAKES_HTTP_PORT"
 readonly SMTP_URL_TEST="smtp://127.0.0.1:$FAKES_SMTP_PORT"
 # Reports and logs stay here after the run (git ignores it); data goes to RUN_DIR.
@@ -147,7 +148,7 @@ SERVICES_OK=
 start_services() {
 	if [ -z "$SERVICES_READY" ]; then
 		SERVICES_READY=1
-		if start_test_database && start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$REPORT_DIR/fakes.log"; then
+		if start_test_database && start_fakes "$FAKES_SMTP_PORT" "$FAKES_HTTP_PORT" "$FAKES_PUSH_PORT" "$REPORT_DIR/fakes.log"; then
 			SERVICES_OK=1
 			export_test_env
 		else

@@ -1,6 +1,9 @@
 // Local fakes of the hosted services Cellsitter talks to, in ONE process, on 127.0.0.1 only:
 //
 //   fake SMTP            FAKE_SMTP_PORT (default 2525): keeps every message in memory
+//   fake push service    FAKE_PUSH_PORT (default 9443; in-process startFakes(): a free port):
+//                        HTTPS with a self-signed certificate for IP 127.0.0.1, what web-push
+//                        posts to (POST /push/:id, see push.js); decrypts and keeps every push
 //   HTTP                 FAKE_HTTP_PORT (default 9410):
 //     GET    /health              200
 //     GET    /messages[?to=addr]  the kept messages, newest first
@@ -8,6 +11,12 @@
 //     DELETE /messages            forget them all
 //     /oauth/…                    fake OAuth 2.0 provider (see oauth.js); client id and
 //                                 secret from FAKE_OAUTH_CLIENT_ID / FAKE_OAUTH_CLIENT_SECRET
+//     POST   /push/subscriptions  a test push subscription { endpoint, keys: { p256dh, auth } }
+//     DELETE /push/subscriptions/:id   expire it (its endpoint then answers 410)
+//     POST   /push/outage         { "seconds": n }: the push service answers 503 for n seconds
+//     GET    /push/ca.pem         the push service's certificate, for the app to trust
+//     GET    /pushes[?endpoint=]  the decrypted pushes, newest first
+//     DELETE /pushes              forget them all
 //
 // Run it with `node tests/fakes/server.js`, or start it in-process with startFakes().
 import http from 'node:http';
@@ -15,6 +24,7 @@ import { pathToFileURL } from 'node:url';
 import { sendJson } from './http-util.js';
 import { Mailbox } from './mailbox.js';
 import { createOAuthProvider } from './oauth.js';
+import { createPushService } from './push.js';
 import { createSmtpServer } from './smtp.js';
 
 const HOST = '127.0.0.1';
@@ -23,18 +33,24 @@ const HOST = '127.0.0.1';
  * @typedef {{
  *   smtpPort?: number,
  *   httpPort?: number,
+ *   pushPort?: number,
  *   oauthClientId?: string,
  *   oauthClientSecret?: string,
  *   now?: () => number
  * }} FakesOptions
- * Ports default to 2525 / 9410; pass 0 to get free ports (read them from the result).
+ * Ports default to 2525 / 9410; pass 0 to get free ports (read them from the result). The push
+ * port defaults to a free one: subscriptions carry it in their endpoint, nobody needs it ahead.
  *
  * @typedef {{
  *   smtpPort: number,
  *   httpPort: number,
  *   httpUrl: string,
  *   smtpUrl: string,
+ *   pushPort: number,
+ *   pushUrl: string,
+ *   pushCa: string,
  *   mailbox: Mailbox,
+ *   push: import('./push.js').PushService,
  *   close: () => Promise<void>
  * }} RunningFakes
  */
@@ -42,8 +58,9 @@ const HOST = '127.0.0.1';
 /**
  * @param {Mailbox} mailbox
  * @param {ReturnType<typeof createOAuthProvider>} oauth
+ * @param {import('./push.js').PushService} push
  */
-function createHttpHandler(mailbox, oauth) {
+function createHttpHandler(mailbox, oauth, push) {
 	/** @type {(req: http.IncomingMessage, res: http.ServerResponse) => Promise<void>} */
 	return async (req, res) => {
 		const url = new URL(req.url ?? '/', `http://${HOST}`);
@@ -62,6 +79,7 @@ function createHttpHandler(mailbox, oauth) {
 			return message ? sendJson(res, 200, message) : sendJson(res, 404, { error: 'no such message' });
 		}
 		if (url.pathname.startsWith('/oauth/') && (await oauth.handle(req, res, url))) return;
+		if (await push.handleHttp(req, res, url)) return;
 		sendJson(res, 404, { error: 'not found' });
 	};
 }
@@ -125,7 +143,18 @@ export async function startFakes(options = {}) {
 				})
 		);
 
-		const handler = createHttpHandler(mailbox, oauth);
+		const push = await createPushService({ now: options.now });
+		await listen(push.server, options.pushPort ?? 0, 'fake push service');
+		push.listening(boundPort(push.server));
+		closers.push(
+			() =>
+				new Promise((resolve) => {
+					push.server.close(() => resolve());
+					push.server.closeAllConnections();
+				})
+		);
+
+		const handler = createHttpHandler(mailbox, oauth, push);
 		const httpServer = http.createServer((req, res) => {
 			handler(req, res).catch((error) => {
 				if (!res.headersSent) sendJson(res, 500, { error: String(error?.message ?? error) });
@@ -141,20 +170,19 @@ export async function startFakes(options = {}) {
 				})
 		);
 
-		// Fake web-push service goes here: an HTTPS listener on 127.0.0.1 with a
-		// self-signed certificate that has an IP subjectAltName (selfsigned 5 is async),
-		// which decrypts arriving pushes with http_ece so tests can read them. Start it
-		// like the two above, push its close onto `closers`, and add its port/URL to the
-		// result and to main()'s startup lines.
-
 		const smtpPort = boundPort(smtp.server);
 		const httpPort = boundPort(httpServer);
+		const pushPort = boundPort(push.server);
 		return {
 			smtpPort,
 			httpPort,
 			smtpUrl: `smtp://${HOST}:${smtpPort}`,
 			httpUrl: `http://${HOST}:${httpPort}`,
+			pushPort,
+			pushUrl: `https://${HOST}:${pushPort}`,
+			pushCa: push.caPem,
 			mailbox,
+			push,
 			close
 		};
 	} catch (error) {
@@ -177,6 +205,7 @@ async function main() {
 		fakes = await startFakes({
 			smtpPort: portFromEnv(process.env.FAKE_SMTP_PORT, 2525),
 			httpPort: portFromEnv(process.env.FAKE_HTTP_PORT, 9410),
+			pushPort: portFromEnv(process.env.FAKE_PUSH_PORT, 9443),
 			oauthClientId: process.env.FAKE_OAUTH_CLIENT_ID || undefined,
 			oauthClientSecret: process.env.FAKE_OAUTH_CLIENT_SECRET || undefined
 		});
@@ -186,7 +215,8 @@ async function main() {
 	}
 	const running = fakes;
 	console.log(`fakes: SMTP on ${running.smtpUrl} (messages kept in memory)`);
-	console.log(`fakes: HTTP on ${running.httpUrl} (/messages mailbox API, /oauth/ sign-in provider)`);
+	console.log(`fakes: HTTP on ${running.httpUrl} (/messages mailbox API, /oauth/ sign-in provider, /push/ and /pushes)`);
+	console.log(`fakes: push service on ${running.pushUrl} (self-signed; certificate at ${running.httpUrl}/push/ca.pem)`);
 
 	let stopping = false;
 	const stop = () => {
