@@ -41,10 +41,46 @@ export const serverEnvSchema = z
 		OAUTH_AUTHORIZE_URL: optionalUrl,
 		OAUTH_TOKEN_URL: optionalUrl,
 		OAUTH_USERINFO_URL: optionalUrl,
+		// Web Push (VAPID, RFC 8292; $lib/server/push): both keys or neither (then the server makes
+		// a pair once and keeps it in CELLSITTER_DATA_DIR/vapid-keys.json).
+		VAPID_PUBLIC_KEY: z
+			.string()
+			.optional()
+			.transform((v) => (v ? v.trim() : undefined))
+			.pipe(
+				z
+					.string()
+					.regex(/^B[A-Za-z0-9_-]{86}$/, 'VAPID_PUBLIC_KEY must be a base64url P-256 public key (87 characters, starting with B)')
+					.optional()
+			),
+		VAPID_PRIVATE_KEY: z
+			.string()
+			.optional()
+			.transform((v) => (v ? v.trim() : undefined))
+			.pipe(
+				z
+					.string()
+					.regex(/^[A-Za-z0-9_-]{43}$/, 'VAPID_PRIVATE_KEY must be a base64url P-256 private key (43 characters)')
+					.optional()
+			),
+		VAPID_SUBJECT: z
+			.string()
+			.optional()
+			.transform((v) => (v ? v.trim() : undefined))
+			.pipe(
+				z
+					.string()
+					.regex(/^(mailto:[^\s@]+@[^\s@]+|https:\/\/\S+)$/, 'VAPID_SUBJECT must be mailto:someone@example.org or an https: URL')
+					.optional()
+			),
 		CELLSITTER_FAKES: flag,
 		FAKES_URL: optionalUrl,
 		CELLSITTER_DEMO: flag,
 		CELLSITTER_DEMO_PASSWORD: z.string().min(8).optional()
+	})
+	.refine((env) => !env.VAPID_PUBLIC_KEY === !env.VAPID_PRIVATE_KEY, {
+		message: 'set both VAPID_PUBLIC_KEY and VAPID_PRIVATE_KEY, or neither (the server then makes a pair once)',
+		path: ['VAPID_PRIVATE_KEY']
 	})
 	.transform((env) => {
 		// With the local fakes on, anything not set points at them (docs/configuration.md).
