@@ -20,7 +20,8 @@ export type AuditKind =
 	| 'reading.edit'
 	| 'device-token.issue'
 	| 'device-token.revoke'
-	| 'logger-mapping.update';
+	| 'logger-mapping.update'
+	| 'alert.acknowledge';
 
 export type AuditEntry = {
 	workshopId: string;
@@ -30,7 +31,7 @@ export type AuditEntry = {
 	kind: AuditKind;
 	packId?: string | null;
 	sessionId?: string | null;
-	subjectType: 'session' | 'step' | 'reading' | 'device-token' | 'logger-mapping';
+	subjectType: 'session' | 'step' | 'reading' | 'device-token' | 'logger-mapping' | 'alert';
 	subjectId: string;
 	before?: Record<string, unknown> | null;
 	after?: Record<string, unknown> | null;

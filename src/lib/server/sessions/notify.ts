@@ -8,7 +8,8 @@ import type { Db, Tx } from '../db';
 
 export const SESSION_EVENTS_CHANNEL = 'cellsitter_session_events';
 
-export type SessionEventKind = 'reading' | 'status' | 'step' | 'watch' | 'plan';
+/** 'alert': an alert of the session was raised, cleared or acknowledged. */
+export type SessionEventKind = 'reading' | 'status' | 'step' | 'watch' | 'plan' | 'alert';
 
 export type SessionEvent = {
 	sessionId: string;

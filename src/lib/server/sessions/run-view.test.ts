@@ -127,6 +127,47 @@ describe('the run view', () => {
 		expect(view.tiles[0].state).toBe('idle');
 	});
 
+	it('shows a stored alert’s state on its group while it is active, and sounds the alarm until a critical one is acknowledged', () => {
+		const stored = (id: string, severity: 'warning' | 'critical', groupId: string | null, extra: { active?: boolean; acknowledged?: boolean } = {}) => ({
+			id,
+			severity,
+			groupId,
+			title: `${id} title`,
+			action: '',
+			active: extra.active ?? true,
+			acknowledged: extra.acknowledged ?? false
+		});
+		// Readings alone say steady everywhere; the stored alerts decide.
+		const steady = ['g1', 'g2', 'g3', 'g4'].map((g) => reading(g, '10:30', { volts: 4.1 }));
+		const view = buildRunView(
+			input({
+				readings: steady,
+				alerts: [
+					stored('w3', 'warning', 'g3'),
+					stored('c3', 'critical', 'g3', { acknowledged: true }),
+					stored('old4', 'critical', 'g4', { active: false }),
+					stored('w1', 'warning', 'g1', { active: false, acknowledged: false })
+				]
+			})
+		);
+		// Group 3: the critical alert wins over the warning (acknowledged or not, its condition holds).
+		expect(view.tiles.map((g) => g.state)).toEqual(['steady', 'steady', 'act-now', 'steady']);
+		expect(view.tiles[2].alert).toEqual({ id: 'c3', severity: 'critical', title: 'c3 title' });
+		expect(view.tiles[0].alert).toBeNull();
+		// Group 4's critical alert has cleared but nobody acknowledged it: the alarm sounds.
+		expect(view.alarm).toBe(true);
+		expect(view.alerts.map((a) => [a.id, a.groupIndex])).toEqual([
+			['c3', 3],
+			['old4', 4],
+			['w3', 3],
+			['w1', 1]
+		]);
+
+		const quiet = buildRunView(input({ readings: steady, alerts: [stored('c3', 'critical', 'g3', { acknowledged: true }), stored('w2', 'warning', 'g2')] }));
+		expect(quiet.alarm).toBe(false);
+		expect(quiet.tiles.map((g) => g.state)).toEqual(['steady', 'watch', 'act-now', 'steady']);
+	});
+
 	it('re-estimates the running step from its readings and moves the expected end', () => {
 		// CV readings of step 2 whose current halves every hour: 2.0, 1.0, 0.5 A at 08:30, 09:30, 10:30.
 		// From 0.5 A at 10:30 to the 0.3 A end (NMC ends at C/20 of a 6 Ah group) takes log2(0.5/0.3) =

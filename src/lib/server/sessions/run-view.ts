@@ -17,6 +17,7 @@ import {
 	type GroupReading,
 	type Limits
 } from '$lib/engine';
+import { severityState as storedAlertState } from '$lib/alert-screen';
 import { perCellVolts } from '$lib/readings-math';
 import { stepInstruction, stepNowText, type RunState } from '$lib/run-words';
 import { db } from '../db';
@@ -69,7 +70,22 @@ export type RunInput = {
 	steps: RunStepInput[];
 	/** At least the newest two of each group and whole pack, and every reading of the running steps. */
 	readings: RunReading[];
+	/** The session's stored alerts that are active or need attention (loadRunAlerts). */
+	alerts?: RunAlert[];
 	now: Date;
+};
+
+/** A stored alert of the session (alerts table) as the run screen needs it. */
+export type RunAlert = {
+	id: string;
+	severity: 'info' | 'warning' | 'critical';
+	groupId: string | null;
+	title: string;
+	action: string;
+	/** The condition still holds (cleared_at is null). */
+	active: boolean;
+	/** Somebody acknowledged it. */
+	acknowledged: boolean;
 };
 
 export type RunStep = {
@@ -115,6 +131,8 @@ export type GroupTile = {
 	charging: boolean;
 	/** What the limits say about this group, most serious first (each says what to do). */
 	messages: string[];
+	/** The group's most serious active stored alert, for a link to its page. */
+	alert: { id: string; severity: RunAlert['severity']; title: string } | null;
 };
 
 export type RestRequest = { stepId: string; groupIndex: number | null; dueAt: string; isDue: boolean };
@@ -133,6 +151,10 @@ export type RunView = {
 	lastReadingAt: string | null;
 	restRequests: RestRequest[];
 	limits: Limits | null;
+	/** The session's stored alerts that are active or need attention, most serious first (group index added). */
+	alerts: (Omit<RunAlert, 'groupId'> & { groupIndex: number | null })[];
+	/** A critical alert of this session needs attention: the run screen sounds its alarm. */
+	alarm: boolean;
 };
 
 const severityState: Record<AlertDraft['severity'], RunState> = { critical: 'act-now', warning: 'watch', info: 'watch' };
@@ -159,6 +181,18 @@ function perCellSetVolts(step: RunStepInput, series: number): number | null {
 const iso = (d: Date | null) => (d ? d.toISOString() : null);
 
 export function buildRunView(input: RunInput): RunView {
+	return evaluateRun(input).view;
+}
+
+/**
+ * What the engine's rules say of the session's newest readings (the group's index as each draft's
+ * groupId, so that its message says "Group 5"; the whole pack's own reading under 'pack'), beside
+ * the view. The alerts raised on every stored reading come from here (alerts/raise.ts), so the run
+ * screen's tiles and the alerts always judge alike.
+ */
+export type RunDrafts = { groups: AlertDraft[]; pack: AlertDraft[] };
+
+export function evaluateRun(input: RunInput): { view: RunView; drafts: RunDrafts } {
 	const { session, pack, groups, steps, now } = input;
 	const nowMs = now.getTime();
 	const indexOf = new Map(groups.map((g) => [g.id, g.index]));
@@ -269,6 +303,8 @@ export function buildRunView(input: RunInput): RunView {
 		: [];
 	alerts.sort((a, b) => severityRank[b.severity] - severityRank[a.severity]);
 
+	const storedAlerts = [...(input.alerts ?? [])].sort((a, b) => severityRank[b.severity] - severityRank[a.severity]);
+
 	const withVolts = groups.flatMap((g) => {
 		const r = newestWith(byGroup.get(g.id), (x) => x.volts);
 		return r ? [cellVolts(r)!] : [];
@@ -290,6 +326,12 @@ export function buildRunView(input: RunInput): RunView {
 				const s = severityState[a.severity];
 				if (stateRank[s] > stateRank[state]) state = s;
 			}
+			// A stored alert whose condition still holds says the same, even if the newest reading no longer shows it.
+			const stored = storedAlerts.filter((a) => a.active && a.groupId === g.id);
+			for (const a of stored) {
+				const s = storedAlertState(a.severity);
+				if (s && stateRank[s] > stateRank[state]) state = s;
+			}
 			return {
 				id: g.id,
 				index: g.index,
@@ -299,19 +341,22 @@ export function buildRunView(input: RunInput): RunView {
 				takenAt: iso(list?.[0]?.takenAt ?? null),
 				state,
 				charging: chargingGroupIds.has(g.id) && session.status === 'running',
-				messages: mine.map((a) => a.message)
+				messages: mine.map((a) => a.message),
+				alert: stored[0] ? { id: stored[0].id, severity: stored[0].severity, title: stored[0].title } : null
 			};
 		});
 	for (const a of alerts) if (a.kind === 'drift') packMessages.push({ severity: a.severity, message: a.message });
 
 	// The whole pack's own reading, judged per cell on its own (no drift against the groups).
 	let packTile: RunView['pack'] = null;
+	let packDrafts: AlertDraft[] = [];
 	const packReading = newestWith(byGroup.get(''), (x) => x.volts);
 	if (packReading) {
 		const perCell = cellVolts(packReading)!;
 		const packAlerts = limits
 			? evaluateReadings({ limits, latest: [engineReading('pack', packReading)], charging: false, now })
 			: [];
+		packDrafts = packAlerts;
 		let state: RunState = isLive ? 'steady' : 'idle';
 		for (const a of packAlerts) if (stateRank[severityState[a.severity]] > stateRank[state]) state = severityState[a.severity];
 		packTile = {
@@ -412,7 +457,7 @@ export function buildRunView(input: RunInput): RunView {
 		restRequests.sort((a, b) => a.dueAt.localeCompare(b.dueAt));
 	}
 
-	return {
+	const view: RunView = {
 		running: runningSteps.map(toRunStep),
 		next: waiting[0] ? toRunStep(waiting[0]) : null,
 		progress: { done: ordered.filter((s) => s.status === 'done' || s.status === 'skipped').length, total: ordered.length },
@@ -424,8 +469,34 @@ export function buildRunView(input: RunInput): RunView {
 		nextReadingDue: iso(nextReadingDue),
 		lastReadingAt: iso(newest),
 		restRequests,
-		limits
+		limits,
+		alerts: storedAlerts.map(({ groupId, ...a }) => ({ ...a, groupIndex: groupId === null ? null : (indexOf.get(groupId) ?? null) })),
+		alarm: storedAlerts.some((a) => a.severity === 'critical' && !a.acknowledged)
 	};
+	return { view, drafts: { groups: alerts, pack: packDrafts } };
+}
+
+/**
+ * The session's stored alerts that are active or need attention, in one query (alerts_session_idx):
+ * the tiles' state and the run screen's alarm.
+ */
+export async function loadRunAlerts(sessionId: string): Promise<RunAlert[]> {
+	const rows = (await db.execute(sql`
+		select id, severity, group_id, title, action, cleared_at is null as active, acknowledged_at is not null as acknowledged
+		from alerts
+		where session_id = ${sessionId} and (cleared_at is null or acknowledged_at is null)
+		order by opened_at desc
+		limit 200
+	`)) as unknown as { id: string; severity: RunAlert['severity']; group_id: string | null; title: string; action: string; active: boolean; acknowledged: boolean }[];
+	return rows.map((r) => ({
+		id: r.id,
+		severity: r.severity,
+		groupId: r.group_id,
+		title: r.title,
+		action: r.action,
+		active: r.active,
+		acknowledged: r.acknowledged
+	}));
 }
 
 type ReadingRow = {

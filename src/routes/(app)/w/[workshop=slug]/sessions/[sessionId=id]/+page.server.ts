@@ -17,7 +17,7 @@ import {
 	stopSession,
 	type SessionChangeResult
 } from '$lib/server/sessions/core';
-import { buildRunView, loadRunReadings } from '$lib/server/sessions/run-view';
+import { buildRunView, loadRunAlerts, loadRunReadings } from '$lib/server/sessions/run-view';
 import { RUN_DEPENDENCY } from '$lib/run-words';
 import { sessionKindLabels } from '$lib/session-plan';
 import type { Actions, PageServerLoad } from './$types';
