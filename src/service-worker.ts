@@ -155,14 +155,15 @@ function readPush(data: PushMessageData | null): AlertPush | null {
 	}
 }
 
-/** A same-origin path to open, or the start page for anything else (never another site). */
+/** The whole same-origin URL to open, or the start page's for anything else (never another site). */
 function sameOriginUrl(raw: unknown): string {
-	if (typeof raw !== 'string') return '/';
+	const start = new URL('/', sw.location.origin).href;
+	if (typeof raw !== 'string') return start;
 	try {
 		const url = new URL(raw, sw.location.origin);
-		return url.origin === sw.location.origin ? url.href : '/';
+		return url.origin === sw.location.origin ? url.href : start;
 	} catch {
-		return '/';
+		return start;
 	}
 }
 
