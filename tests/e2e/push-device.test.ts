@@ -1,0 +1,162 @@
+import { expect, test, type Page } from '@playwright/test';
+import { signUp, uniqueEmail } from './helpers';
+
+// Push on a phone: the app is installable (manifest and icons), a person turns alerts on for this
+// device from the account page and off again, and the service worker shows what a push brings.
+// Headless Chromium cannot make a real push subscription (stack.md, item 13): the page's
+// PushManager hands out one made by the local fake push service instead, so the server side —
+// keys, storage — is real.
+test.use({ viewport: { width: 390, height: 844 } });
+
+const FAKES_URL = process.env.FAKES_URL ?? 'http://127.0.0.1:9420';
+
+type FakeSubscription = { endpoint: string; expirationTime: null; keys: { p256dh: string; auth: string } };
+
+/** Replaces PushManager's subscribe/getSubscription in every page of the context with the fake's subscription. */
+async function fakePushManager(page: Page, subscription: FakeSubscription) {
+	await page.context().addInitScript((sub: FakeSubscription) => {
+		const KEPT = 'e2e-fake-push-key';
+		const made = (serverKey: string) => {
+			const bytes = Uint8Array.from(atob(serverKey), (c) => c.charCodeAt(0));
+			return {
+				endpoint: sub.endpoint,
+				expirationTime: null,
+				options: { userVisibleOnly: true, applicationServerKey: bytes.buffer },
+				toJSON: () => ({ endpoint: sub.endpoint, expirationTime: null, keys: sub.keys }),
+				unsubscribe: async () => {
+					localStorage.removeItem(KEPT);
+					return true;
+				}
+			};
+		};
+		PushManager.prototype.subscribe = async function (options?: PushSubscriptionOptionsInit) {
+			const key = options?.applicationServerKey;
+			if (!(key instanceof Uint8Array)) throw new Error('the page must subscribe with the server key as bytes');
+			localStorage.setItem(KEPT, btoa(Array.from(key, (b) => String.fromCharCode(b)).join('')));
+			return made(localStorage.getItem(KEPT)!) as unknown as PushSubscription;
+		};
+		PushManager.prototype.getSubscription = async function () {
+			const key = localStorage.getItem(KEPT);
+			return (key ? made(key) : null) as unknown as PushSubscription | null;
+		};
+	}, subscription);
+}
+
+/** Width and height from a PNG's IHDR chunk (PNG spec, 11.2.2: bytes 16–23, big-endian). */
+function pngSize(bytes: Buffer): { width: number; height: number } {
+	expect(bytes.subarray(1, 4).toString('latin1')).toBe('PNG');
+	return { width: bytes.readUInt32BE(16), height: bytes.readUInt32BE(20) };
+}
+
+test('the app links a valid manifest whose icons load at their stated sizes', async ({ page }) => {
+	await page.goto('/login');
+	const href = await page.locator('link[rel="manifest"]').getAttribute('href');
+	expect(href).toBeTruthy();
+	const manifestUrl = new URL(href!, page.url());
+	const answer = await page.request.get(manifestUrl.href);
+	expect(answer.status()).toBe(200);
+	const manifest = JSON.parse(await answer.text()) as {
+		name: string;
+		start_url: string;
+		display: string;
+		icons: { src: string; sizes: string; type: string; purpose?: string }[];
+	};
+	expect(manifest).toMatchObject({ name: 'Cellsitter', display: 'standalone' });
+	expect(manifest.icons.some((i) => i.sizes === '192x192')).toBe(true);
+	expect(manifest.icons.some((i) => i.sizes === '512x512' && i.purpose === 'maskable')).toBe(true);
+	for (const icon of manifest.icons) {
+		const file = await page.request.get(new URL(icon.src, manifestUrl).href);
+		expect(file.status(), icon.src).toBe(200);
+		expect(file.headers()['content-type'], icon.src).toContain(icon.type);
+		if (icon.type === 'image/png') {
+			const { width, height } = pngSize(await file.body());
+			expect(`${width}x${height}`, icon.src).toBe(icon.sizes);
+		}
+	}
+	const touch = await page.locator('link[rel="apple-touch-icon"]').getAttribute('href');
+	const touchIcon = await page.request.get(new URL(touch!, page.url()).href);
+	expect(touchIcon.status()).toBe(200);
+	expect(pngSize(await touchIcon.body())).toEqual({ width: 180, height: 180 });
+});
+
+test('a person turns push alerts on for this phone and off again; the service worker shows a push', async ({ page, context, baseURL }) => {
+	await signUp(page, { name: 'Pia Push', email: uniqueEmail('push'), workshop: 'Pia Bench' });
+	await context.grantPermissions(['notifications'], { origin: baseURL });
+
+	// A subscription at the fake push service, for the server's own VAPID key.
+	const { publicKey } = (await (await page.request.get('/api/push-subscriptions/key')).json()) as { publicKey: string };
+	const made = await page.request.post(`${FAKES_URL}/push/subscriptions`, { data: { applicationServerKey: publicKey } });
+	expect(made.status()).toBe(201);
+	const subscription = (await made.json()) as FakeSubscription;
+	await fakePushManager(page, subscription);
+
+	await page.goto('/account');
+	const card = page.getByRole('region', { name: 'Alerts on this device' });
+	await expect(card.getByText('Alerts do not come to this device.')).toBeVisible();
+	await card.getByRole('button', { name: 'Send alerts to this phone' }).click();
+	await expect(card.getByText('Alerts will come to this device.')).toBeVisible();
+	await expect(card.getByText('Alerts come to this device')).toBeVisible();
+
+	const devices = async () =>
+		((await (await page.request.get('/api/push-subscriptions')).json()) as { devices: { endpoint: string; label: string }[] }).devices;
+	const [device, ...others] = await devices();
+	expect(others).toEqual([]);
+	expect(device.endpoint).toBe(subscription.endpoint);
+	expect(device.label).toMatch(/^Chrome on /);
+
+	// After a reload the page still knows (the browser's subscription and the server's copy agree).
+	await page.reload();
+	await expect(card.getByRole('button', { name: 'Stop alerts on this phone' })).toBeVisible();
+
+	// The service worker's push handler, through DevTools' own push delivery.
+	const cdp = await context.newCDPSession(page);
+	const registrationId = new Promise<string>((resolve) => {
+		cdp.on('ServiceWorker.workerRegistrationUpdated', ({ registrations }) => {
+			const mine = registrations.find((r) => !r.isDeleted && r.scopeURL === `${new URL(baseURL!).origin}/`);
+			if (mine) resolve(mine.registrationId);
+		});
+	});
+	await cdp.send('ServiceWorker.enable');
+	const push = async (data: string) =>
+		cdp.send('ServiceWorker.deliverPushMessage', { origin: new URL(baseURL!).origin, registrationId: await registrationId, data });
+	const shown = (tag: string) =>
+		page.evaluate(async (t) => {
+			const registration = await navigator.serviceWorker.ready;
+			return (await registration.getNotifications({ tag: t })).map((n) => ({
+				title: n.title,
+				body: n.body,
+				data: n.data as { url: string },
+				requireInteraction: n.requireInteraction
+			}));
+		}, tag);
+
+	await push(
+		JSON.stringify({
+			title: 'Group 3 is at 4.31 V',
+			body: 'Over the 4.25 V limit. Disconnect the charger from group 3.',
+			url: '/w/pia-bench/alerts/abc',
+			tag: 'alert-e2e-critical',
+			severity: 'critical'
+		})
+	);
+	await expect.poll(() => shown('alert-e2e-critical')).toEqual([
+		{
+			title: 'Group 3 is at 4.31 V',
+			body: 'Over the 4.25 V limit. Disconnect the charger from group 3.',
+			data: { url: `${new URL(baseURL!).origin}/w/pia-bench/alerts/abc` },
+			requireInteraction: true
+		}
+	]);
+	// A payload it cannot read still shows a plain notification, and a link to another site is not kept.
+	await push('not json');
+	await expect.poll(async () => (await shown('cellsitter-alert')).map((n) => n.title)).toEqual(['Cellsitter alert']);
+	await push(JSON.stringify({ title: 'Elsewhere', body: 'b', url: 'https://example.org/x', tag: 'alert-e2e-away', severity: 'info' }));
+	await expect.poll(() => shown('alert-e2e-away')).toEqual([
+		{ title: 'Elsewhere', body: 'b', data: { url: `${new URL(baseURL!).origin}/` }, requireInteraction: false }
+	]);
+
+	await card.getByRole('button', { name: 'Stop alerts on this phone' }).click();
+	await expect(card.getByText('Alerts no longer come to this device.')).toBeVisible();
+	await expect(card.getByRole('button', { name: 'Send alerts to this phone' })).toBeVisible();
+	expect(await devices()).toEqual([]);
+});
