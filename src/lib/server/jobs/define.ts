@@ -8,6 +8,8 @@ export type JobDefinition<T extends object> = {
 	options?: Omit<PgBoss.Queue, 'name'>;
 	/** Cron (5 fields, UTC unless tz) for jobs that run on a clock rather than on demand. */
 	schedule?: { cron: string; tz?: string; data?: T };
+	/** How often a worker asks for this queue's jobs (default 2 s; pg-boss allows 0.5 at least). */
+	pollingIntervalSeconds?: number;
 	handle: (data: T) => Promise<unknown>;
 };
 

@@ -7,6 +7,7 @@
  */
 import type PgBoss from 'pg-boss';
 import { ensureQueue, startBoss, stopBoss } from './boss';
+import { alertClockJob, deliverAlertJob } from './alerts';
 import { closeFinishedSessionsJob } from './close-finished-sessions';
 import type { JobDefinition } from './define';
 import { passwordResetMail } from './password-reset-mail';
@@ -17,7 +18,9 @@ const definitions = {
 	'password-reset-mail': passwordResetMail,
 	'purge-expired': purgeExpired,
 	'close-finished-sessions': closeFinishedSessionsJob,
-	'reading-clock': readingClockJob
+	'reading-clock': readingClockJob,
+	'deliver-alert': deliverAlertJob,
+	'alert-clock': alertClockJob
 };
 
 export type QueueName = keyof typeof definitions;
@@ -62,7 +65,10 @@ async function start(role: JobsRole): Promise<PgBoss> {
 	const boss = await startBoss(role === 'work' ? { supervise: true, schedule: true } : { supervise: false, schedule: false });
 	await prepareQueues(boss);
 	if (role === 'work') {
-		for (const queue of queueNames) await boss.work(queue, { pollingIntervalSeconds: 2 }, worker(queue));
+		for (const queue of queueNames) {
+			const pollingIntervalSeconds = definitionOf(queue).pollingIntervalSeconds ?? 2;
+			await boss.work(queue, { pollingIntervalSeconds }, worker(queue));
+		}
 	}
 	return boss;
 }

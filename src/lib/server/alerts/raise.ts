@@ -1,0 +1,295 @@
+/**
+ * Raising alerts. Every stored reading is judged, in the transaction that stores it, by the same
+ * rules as the run screen's tiles (run-view.ts `evaluateRun`, over the engine's evaluateReadings);
+ * the clock job judges running sessions with the engine's checkClock. What was found is reconciled
+ * with the session's active alerts (engine `reconcileAlerts`): a new condition, or one turned
+ * louder, is inserted — the partial unique index on active alerts makes two app instances judging
+ * one reading raise it once —, a condition gone is cleared, one still there is only marked seen.
+ *
+ * Each new alert's deliveries (alert_deliveries: one row per person and channel, from the
+ * session's watchers and their settings, alert-routing.ts) are written in the same transaction:
+ * the outbox. After the commit `dispatchDeliveries` hands them to pg-boss; rows a crash left
+ * behind are picked up by the alert clock's sweep (deliver.ts). So nothing committed is lost.
+ */
+import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
+import { alertAction, alertTitle, alertUnit } from '$lib/alert-words';
+import { routeAlert } from '$lib/alert-routing';
+import { checkClock, reconcileAlerts, type AlertDraft, type Limits } from '$lib/engine';
+import type { Tx } from '../db';
+import { alertDeliveries, alerts, cellSpecs, chargeSessions, chemistryProfiles, packGroups, packs, sessionSteps } from '../db/schema';
+import type { DeliveryReason, StoredAlertKind } from '../db/schema';
+import { newId } from '../ids';
+import { chemistryOf } from '../sessions/plan-context';
+import { notifySession } from '../sessions/notify';
+import { evaluateRun, sessionLimits, type RunInput, type RunReading } from '../sessions/run-view';
+import { sessionRecipients, workshopOwners, type Recipient } from './recipients';
+
+/** What a reading can raise or clear. */
+export const READING_KINDS = ['over-voltage', 'under-voltage', 'over-temperature', 'cold-charge', 'heat-rise', 'drift', 'step-finished'] as const;
+/** What the clock can raise or clear. */
+export const CLOCK_KINDS = ['reading-overdue', 'step-overrun'] as const;
+
+/** A condition found, with the group's row id (null: the whole pack or session) and its label. */
+type Found = AlertDraft & { groupRowId: string | null; groupLabel: string | null; readingId: number | null; details?: Record<string, unknown> };
+
+export type RaisedAlert = { id: string; kind: StoredAlertKind; severity: AlertDraft['severity']; sessionId: string };
+
+/** What an evaluation changed; `deliveries` are the pending outbox rows to dispatch after commit. */
+export type AlertChanges = { raised: RaisedAlert[]; cleared: number; deliveries: string[] };
+
+const none = (): AlertChanges => ({ raised: [], cleared: 0, deliveries: [] });
+
+type SessionHead = {
+	id: string;
+	workshopId: string;
+	packId: string;
+	status: RunInput['session']['status'];
+	limits: Limits | null;
+};
+
+/**
+ * Everything the run screen's rules need, read in `tx` (side by side on one connection): the
+ * session, pack and chemistry, groups, steps, the newest four readings of each group and of the
+ * whole pack, and the newest room temperature among the last 200 readings. A 100,000-reading
+ * session costs a few index probes per group.
+ */
+async function loadRunInput(tx: Tx, sessionId: string, now: Date): Promise<{ head: SessionHead; input: RunInput } | null> {
+	const [[row], groups, steps, rows] = await Promise.all([
+		tx
+			.select({ session: chargeSessions, pack: packs, spec: cellSpecs, profile: chemistryProfiles })
+			.from(chargeSessions)
+			.innerJoin(packs, eq(packs.id, chargeSessions.packId))
+			.innerJoin(cellSpecs, eq(cellSpecs.id, packs.cellSpecId))
+			.leftJoin(chemistryProfiles, eq(chemistryProfiles.id, cellSpecs.chemistryProfileId))
+			.where(eq(chargeSessions.id, sessionId)),
+		tx
+			.select({ id: packGroups.id, index: packGroups.index })
+			.from(packGroups)
+			.innerJoin(chargeSessions, eq(chargeSessions.packId, packGroups.packId))
+			.where(eq(chargeSessions.id, sessionId))
+			.orderBy(asc(packGroups.index)),
+		tx.select().from(sessionSteps).where(eq(sessionSteps.sessionId, sessionId)).orderBy(asc(sessionSteps.position)),
+		tx.execute(sql`
+			select r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c
+			from charge_sessions s
+			join pack_groups g on g.pack_id = s.pack_id
+			cross join lateral (
+				select * from readings x where x.session_id = s.id and x.group_id = g.id order by x.taken_at desc, x.id desc limit 4
+			) r
+			where s.id = ${sessionId}
+			union all
+			(select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c from readings
+				where session_id = ${sessionId} and group_id is null order by taken_at desc, id desc limit 4)
+			union all
+			(select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c
+				from (select * from readings where session_id = ${sessionId} order by taken_at desc, id desc limit 200) recent
+				where ambient_c is not null order by taken_at desc, id desc limit 1)`)
+	]);
+	if (!row) return null;
+	const seen = new Set<number>();
+	const readings: RunReading[] = [];
+	for (const r of rows as unknown as Record<string, unknown>[]) {
+		const id = Number(r.id);
+		if (seen.has(id)) continue;
+		seen.add(id);
+		readings.push({
+			id,
+			groupId: (r.group_id as string | null) ?? null,
+			stepId: (r.step_id as string | null) ?? null,
+			takenAt: new Date(r.taken_at as string),
+			volts: r.volts as number | null,
+			amps: r.amps as number | null,
+			tempC: r.temp_c as number | null,
+			ambientC: r.ambient_c as number | null
+		});
+	}
+	const { session, pack, spec, profile } = row;
+	const input: RunInput = {
+		session,
+		pack: { series: pack.series, parallel: pack.parallel, chemistry: chemistryOf(spec, profile), cellCapacityAh: spec.capacityAh },
+		groups,
+		steps,
+		readings,
+		now
+	};
+	return {
+		head: { id: session.id, workshopId: session.workshopId, packId: session.packId, status: session.status, limits: sessionLimits(input) },
+		input
+	};
+}
+
+async function activeAlerts(tx: Tx, sessionId: string) {
+	return tx
+		.select({ id: alerts.id, kind: alerts.kind, groupId: alerts.groupId, severity: alerts.severity })
+		.from(alerts)
+		.where(and(eq(alerts.sessionId, sessionId), isNull(alerts.clearedAt)));
+}
+
+/**
+ * Judges the session's newest readings and raises, clears or keeps its reading alerts. Call it in
+ * the transaction that stored the readings; dispatch `deliveries` after the commit.
+ */
+export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new Date()): Promise<AlertChanges> {
+	const loaded = await loadRunInput(tx, sessionId, now);
+	if (!loaded || !loaded.head.limits) return none();
+	const { head, input } = loaded;
+	const { drafts } = evaluateRun(input);
+	const idOfIndex = new Map(input.groups.map((g) => [String(g.index), g.id]));
+	const newestOf = (groupId: string | null) => {
+		let best: RunReading | null = null;
+		for (const r of input.readings) if (r.groupId === groupId && (!best || r.takenAt > best.takenAt)) best = r;
+		return best?.id ?? null;
+	};
+	const found: Found[] = [
+		...drafts.groups.map((d) => {
+			const rowId = d.groupId !== undefined ? (idOfIndex.get(d.groupId) ?? null) : null;
+			return { ...d, groupRowId: rowId, groupLabel: rowId ? d.groupId! : null, readingId: newestOf(rowId) };
+		}),
+		...drafts.pack.map((d) => ({
+			...d,
+			message: d.message.replace(/^Group pack/, 'The pack'),
+			groupRowId: null,
+			groupLabel: null,
+			readingId: newestOf(null)
+		}))
+	];
+	return reconcileAndStore(tx, head, found, READING_KINDS, now);
+}
+
+/**
+ * The clock's rules for one session (run under its row lock by the clock job): a reading overdue
+ * while it runs, a running step past its expected time by the overrun factor. A session that is
+ * not running has neither, so its clock alerts (and a step-finished note) are cleared.
+ */
+export async function evaluateClockInTx(tx: Tx, sessionId: string, now = new Date()): Promise<AlertChanges> {
+	const loaded = await loadRunInput(tx, sessionId, now);
+	if (!loaded || !loaded.head.limits) return none();
+	const { head, input } = loaded;
+	const found: Found[] = [];
+	if (head.status === 'running') {
+		const limits: Limits = { ...(head.limits as Limits), readingIntervalMinutes: input.session.readingIntervalMinutes };
+		let last: Date | null = null;
+		for (const r of input.readings) if (!last || r.takenAt > last) last = r.takenAt;
+		const overdue = checkClock({ limits, lastReadingAt: last, stepStartedAt: input.session.startedAt ?? undefined, now }).filter(
+			(a) => a.kind === 'reading-overdue'
+		);
+		found.push(...overdue.map((d) => ({ ...d, groupRowId: null, groupLabel: null, readingId: null })));
+		const indexOf = new Map(input.groups.map((g) => [g.id, g.index]));
+		for (const step of input.steps) {
+			if (step.status !== 'running' || !step.actualStart) continue;
+			const expectedHours = (step.expectedEnd.getTime() - step.expectedStart.getTime()) / 3_600_000;
+			for (const d of checkClock({ limits, stepStartedAt: step.actualStart, stepExpectedHours: expectedHours, now })) {
+				if (d.kind !== 'step-overrun') continue;
+				const label = step.groupId ? String(indexOf.get(step.groupId) ?? '') || null : null;
+				found.push({ ...d, groupId: label ?? undefined, groupRowId: step.groupId, groupLabel: label, readingId: null });
+			}
+		}
+	}
+	const kinds = head.status === 'running' ? CLOCK_KINDS : ([...CLOCK_KINDS, 'step-finished'] as const);
+	return reconcileAndStore(tx, head, found, kinds, now);
+}
+
+async function reconcileAndStore(tx: Tx, head: SessionHead, found: Found[], kinds: readonly string[], now: Date): Promise<AlertChanges> {
+	const active = await activeAlerts(tx, head.id);
+	// The engine keys a condition by kind and group: give it the group's row id.
+	const plan = reconcileAlerts(
+		active,
+		found.map((f) => ({ ...f, groupId: f.groupRowId })),
+		{ kinds }
+	);
+	const changes = none();
+	if (plan.clear.length) {
+		const cleared = await tx
+			.update(alerts)
+			.set({ clearedAt: now })
+			.where(and(inArray(alerts.id, plan.clear), isNull(alerts.clearedAt)))
+			.returning({ id: alerts.id });
+		changes.cleared = cleared.length;
+	}
+	if (plan.seen.length) await tx.update(alerts).set({ lastSeenAt: now }).where(inArray(alerts.id, plan.seen));
+	for (const f of plan.raise) {
+		const unit = alertUnit(f.kind, head.limits ? { threshold: f.threshold, limits: head.limits } : undefined);
+		const [row] = await tx
+			.insert(alerts)
+			.values({
+				id: newId(),
+				workshopId: head.workshopId,
+				packId: head.packId,
+				sessionId: head.id,
+				groupId: f.groupRowId,
+				groupKey: f.groupRowId ?? '',
+				kind: f.kind as StoredAlertKind,
+				severity: f.severity,
+				title: alertTitle(f.kind, f.groupLabel),
+				message: f.message.slice(0, 2000),
+				action: alertAction(f.kind, f.severity, f.groupLabel),
+				value: Number.isFinite(f.value) ? f.value : null,
+				threshold: Number.isFinite(f.threshold) ? f.threshold : null,
+				unit,
+				readingId: f.readingId,
+				details: f.details ?? {},
+				openedAt: now,
+				lastSeenAt: now
+			})
+			.onConflictDoNothing({
+				target: [alerts.sessionId, alerts.kind, alerts.groupKey, alerts.severity],
+				where: sql`cleared_at is null`
+			})
+			.returning({ id: alerts.id, kind: alerts.kind, severity: alerts.severity });
+		// Another instance raised it a moment ago: theirs is the one, with its deliveries.
+		if (!row) continue;
+		changes.raised.push({ id: row.id, kind: row.kind, severity: row.severity, sessionId: head.id });
+	}
+	if (changes.raised.length) {
+		const { timeZone, recipients } = await sessionRecipients(tx, head.id);
+		for (const alert of changes.raised) {
+			const people = recipients.map((person) => ({ person, reason: (person.onWatch ? 'on-watch' : 'watcher') as DeliveryReason }));
+			changes.deliveries.push(...(await queueDeliveries(tx, alert, people, timeZone, now)));
+		}
+	}
+	if (changes.raised.length || changes.cleared) {
+		await notifySession(tx, { sessionId: head.id, workshopId: head.workshopId, kind: 'alert' });
+	}
+	return changes;
+}
+
+/**
+ * Writes an alert's outbox rows for these people: one per person and channel they chose, pending,
+ * or held (quiet time, information alerts only) or gone (push chosen, no device) so the log says
+ * why nothing went. Returns the pending rows' ids.
+ */
+export async function queueDeliveries(
+	tx: Tx,
+	alert: { id: string; kind: string; severity: AlertDraft['severity'] },
+	people: { person: Recipient; reason: DeliveryReason }[],
+	timeZone: string,
+	now: Date
+): Promise<string[]> {
+	const rows = people.flatMap(({ person, reason }) =>
+		routeAlert(alert, person, reason, now, timeZone).map((route) => ({
+			id: newId(),
+			alertId: alert.id,
+			userId: person.userId,
+			channel: route.channel,
+			reason,
+			status: route.status,
+			log:
+				route.status === 'pending'
+					? []
+					: [{ at: now.toISOString(), ok: false, detail: route.status === 'held' ? 'Held back: quiet time (information only).' : 'No device has push turned on.' }],
+			createdAt: now
+		}))
+	);
+	if (!rows.length) return [];
+	const inserted = await tx
+		.insert(alertDeliveries)
+		.values(rows)
+		.onConflictDoNothing()
+		.returning({ id: alertDeliveries.id, status: alertDeliveries.status });
+	return inserted.filter((r) => r.status === 'pending').map((r) => r.id);
+}
+
+/** Escalation's recipients: every owner of the workshop (quiet time never holds a critical alert). */
+export async function escalationRecipients(tx: Tx, workshopId: string): Promise<Recipient[]> {
+	return workshopOwners(tx, workshopId);
+}

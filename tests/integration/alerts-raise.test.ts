@@ -1,0 +1,288 @@
+/**
+ * Alerts raised on readings and by the clock, and delivered, against the real database, pg-boss,
+ * the fake SMTP server and the fake push service (whose payloads it decrypts with the test
+ * subscription's keys). The limits are the engine's defaults for NMC charged to 4.20 V per cell:
+ * watch above 4.22 V, act now above 4.25 V (defaultLimits: set volts + 0.02, the family's
+ * maximum 4.20 + 0.05).
+ */
+import { randomUUID } from 'node:crypto';
+import { and, eq } from 'drizzle-orm';
+import { afterAll, describe, expect, it } from 'vitest';
+import { acknowledgeAlert } from '$lib/server/alerts/inbox';
+import { deliverOne, escalateAlerts, runAlertClock, sweepOutbox } from '$lib/server/alerts/deliver';
+import { evaluateReadingsInTx } from '$lib/server/alerts/raise';
+import type { Member } from '$lib/server/auth/permissions';
+import { db } from '$lib/server/db';
+import { alertDeliveries, alerts, chargeSessions, memberships, pushSubscriptions, readings } from '$lib/server/db/schema';
+import { rereadServerEnv } from '$lib/server/env';
+import { fakePushes, makeFakePushSubscription } from '$lib/server/fakes';
+import { newId } from '$lib/server/ids';
+import { startJobs, stopJobs, workQueueNow } from '$lib/server/jobs/registry';
+import { readingInputSchema } from '$lib/schemas/readings';
+import { logReadings } from '$lib/server/sessions/readings';
+import { startFakes } from '../fakes/server.js';
+import { joinAs, mailTo } from './helpers';
+import { sessionFixture } from './readings-fixture';
+
+const MINUTE = 60_000;
+
+afterAll(async () => {
+	await stopJobs();
+});
+
+function reading(groupIndex: number | null, values: { volts?: number; amps?: number; tempC?: number }, at = new Date()) {
+	return readingInputSchema.parse({ clientId: randomUUID(), groupIndex, takenAt: at.toISOString(), ...values });
+}
+
+const log = (member: Member, sessionId: string, inputs: ReturnType<typeof reading>[]) =>
+	logReadings({ kind: 'member', member }, sessionId, inputs, 'hand');
+
+const alertsOf = (sessionId: string) => db.select().from(alerts).where(eq(alerts.sessionId, sessionId)).orderBy(alerts.openedAt);
+const deliveriesOf = (alertId: string) => db.select().from(alertDeliveries).where(eq(alertDeliveries.alertId, alertId));
+
+async function subscribe(userId: string) {
+	const sub = await makeFakePushSubscription();
+	await db.insert(pushSubscriptions).values({ id: newId(), userId, endpoint: sub.endpoint, p256dh: sub.keys.p256dh, auth: sub.keys.auth, label: 'Test phone' });
+	return sub;
+}
+
+describe('alerts raised on readings', () => {
+	it('a 4.30 V reading on an NMC session: one critical alert, one e-mail and one decrypted push naming the group', async () => {
+		const { owner, session } = await sessionFixture();
+		const sub = await subscribe(owner.user.id);
+		expect(await log(owner, session.id, [reading(3, { volts: 4.3 })])).toMatchObject({ ok: true, stored: 1 });
+
+		const raised = await alertsOf(session.id);
+		expect(raised).toHaveLength(1);
+		expect(raised[0]).toMatchObject({ kind: 'over-voltage', severity: 'critical', value: 4.3, threshold: 4.25, unit: 'V' });
+		expect(raised[0].title).toBe('Group 3: over voltage');
+		expect(raised[0].action).toContain('Disconnect the charger from group 3');
+		expect(raised[0].action).toContain('call the fire service');
+		expect(raised[0].readingId).not.toBeNull();
+
+		// The outbox rows were written with the alert; the jobs send them.
+		const rows = await deliveriesOf(raised[0].id);
+		expect(rows.map((r) => r.channel).sort()).toEqual(['email', 'push']);
+		await workQueueNow('deliver-alert');
+		const sent = await deliveriesOf(raised[0].id);
+		expect(sent.map((r) => r.status)).toEqual(['sent', 'sent']);
+		expect(sent.every((r) => r.attempts === 1 && r.log.length === 1 && r.log[0].ok)).toBe(true);
+
+		const mails = (await mailTo(owner.user.email)).filter((m) => m.subject.includes('Group 3: over voltage'));
+		expect(mails).toHaveLength(1);
+		expect(mails[0].subject).toMatch(/^\[ACT NOW\] Group 3: over voltage/);
+		expect(mails[0].text).toContain('4.300');
+		expect(mails[0].text).toContain(`/alerts/${raised[0].id}`);
+		const pushes = await fakePushes(sub.endpoint);
+		expect(pushes).toHaveLength(1);
+		const payload = pushes[0].json as { title: string; body: string; url: string; severity: string };
+		expect(payload.title).toContain('Group 3');
+		expect(payload.severity).toBe('critical');
+		expect(payload.url).toContain(`/alerts/${raised[0].id}`);
+
+		// The same condition again raises nothing; it is only seen again.
+		await log(owner, session.id, [reading(3, { volts: 4.31 })]);
+		expect(await alertsOf(session.id)).toHaveLength(1);
+		await workQueueNow('deliver-alert');
+		expect(await fakePushes(sub.endpoint)).toHaveLength(1);
+	});
+
+	it('a warning that turns critical is a new alert; one that clears and comes back is new again', async () => {
+		const { owner, session } = await sessionFixture();
+		await log(owner, session.id, [reading(2, { volts: 4.23 })]);
+		let rows = await alertsOf(session.id);
+		expect(rows.map((r) => [r.kind, r.severity, r.clearedAt === null])).toEqual([['over-voltage', 'warning', true]]);
+
+		await log(owner, session.id, [reading(2, { volts: 4.27 })]);
+		rows = await alertsOf(session.id);
+		expect(rows.map((r) => [r.severity, r.clearedAt === null])).toEqual([
+			['warning', false],
+			['critical', true]
+		]);
+
+		await log(owner, session.id, [reading(2, { volts: 4.1 })]);
+		rows = await alertsOf(session.id);
+		expect(rows.every((r) => r.clearedAt !== null)).toBe(true);
+
+		await log(owner, session.id, [reading(2, { volts: 4.27 })]);
+		rows = await alertsOf(session.id);
+		expect(rows.map((r) => [r.severity, r.clearedAt === null])).toEqual([
+			['warning', false],
+			['critical', false],
+			['critical', true]
+		]);
+	});
+
+	it('two instances judging the same reading at once raise one alert with one set of deliveries', async () => {
+		const { owner, session, pack, groups } = await sessionFixture();
+		// Stored without judging, as if by an instance that stopped right after the insert.
+		await db.insert(readings).values({
+			sessionId: session.id,
+			packId: pack.id,
+			groupId: groups[1].id,
+			takenAt: new Date(),
+			volts: 4.4,
+			source: 'hand',
+			enteredBy: owner.user.id,
+			clientId: randomUUID()
+		});
+		const both = await Promise.all([
+			db.transaction((tx) => evaluateReadingsInTx(tx, session.id)),
+			db.transaction((tx) => evaluateReadingsInTx(tx, session.id))
+		]);
+		const rows = await alertsOf(session.id);
+		expect(rows).toHaveLength(1);
+		expect(both.map((c) => c.raised.length).sort()).toEqual([0, 1]);
+		// One row per channel for the owner: e-mail to send, push noted as having no device.
+		expect((await deliveriesOf(rows[0].id)).map((d) => [d.channel, d.status]).sort()).toEqual([
+			['email', 'pending'],
+			['push', 'gone']
+		]);
+	});
+
+	it('quiet time holds back an information alert for a watcher, not for the technician on watch, never a critical one', async () => {
+		const { owner, session } = await sessionFixture();
+		const tech = await joinAs(owner, 'technician');
+		await db.update(chargeSessions).set({ watchUserId: tech.user.id }).where(eq(chargeSessions.id, session.id));
+		// Both quiet all day but one minute (a window that always holds now, whatever the zone).
+		const now = new Date();
+		const hhmm = (d: Date) =>
+			new Intl.DateTimeFormat('en-GB', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: owner.workshop.timeZone }).format(d);
+		const quiet = { quietFrom: hhmm(new Date(now.getTime() + 2 * MINUTE)), quietTo: hhmm(new Date(now.getTime() + MINUTE)) };
+		await db.update(memberships).set(quiet).where(eq(memberships.workshopId, owner.workshop.id));
+
+		// Group 1 is on the charger (its step runs): at its set volts with the current down to
+		// 0.2 A, under C/20 of the 2 × 4 Ah group (0.4 A): the step is done, an information alert.
+		await log(owner, session.id, [reading(1, { volts: 4.2, amps: 0.2 }, now)]);
+		const [finished] = (await alertsOf(session.id)).filter((a) => a.kind === 'step-finished');
+		expect(finished.severity).toBe('info');
+		const info = await deliveriesOf(finished.id);
+		const byPerson = (rows: typeof info, userId: string) => rows.filter((r) => r.userId === userId && r.channel === 'email').map((r) => [r.reason, r.status]);
+		expect(byPerson(info, owner.user.id)).toEqual([['watcher', 'held']]);
+		expect(byPerson(info, tech.user.id)).toEqual([['on-watch', 'pending']]);
+
+		await log(owner, session.id, [reading(2, { tempC: 65 }, now)]);
+		const [hot] = (await alertsOf(session.id)).filter((a) => a.kind === 'over-temperature');
+		expect(hot.severity).toBe('critical');
+		const critical = await deliveriesOf(hot.id);
+		expect(byPerson(critical, owner.user.id)).toEqual([['watcher', 'pending']]);
+		expect(byPerson(critical, tech.user.id)).toEqual([['on-watch', 'pending']]);
+	});
+});
+
+describe('the alert clock', () => {
+	it('raises reading-overdue once, and clears it when a reading arrives', async () => {
+		const { owner, session } = await sessionFixture();
+		// Started 80 minutes ago with no reading; 60 min interval + 15 min grace: overdue since 5 minutes.
+		await db.update(chargeSessions).set({ startedAt: new Date(Date.now() - 80 * MINUTE) }).where(eq(chargeSessions.id, session.id));
+		await runAlertClock();
+		await runAlertClock();
+		let rows = (await alertsOf(session.id)).filter((a) => a.kind === 'reading-overdue');
+		expect(rows).toHaveLength(1);
+		expect(rows[0].severity).toBe('warning');
+		expect(rows[0].title).toBe('Reading overdue');
+		await log(owner, session.id, [reading(1, { volts: 3.9 })]);
+		await runAlertClock();
+		rows = (await alertsOf(session.id)).filter((a) => a.kind === 'reading-overdue');
+		expect(rows.map((r) => r.clearedAt !== null)).toEqual([true]);
+	});
+
+	it('escalates an unacknowledged critical alert to every owner after the escalation time; an acknowledged one does not', async () => {
+		const { owner, session } = await sessionFixture();
+		const second = await joinAs(owner, 'owner');
+		const tech = await joinAs(owner, 'technician');
+		await log(owner, session.id, [reading(1, { volts: 4.3 }), reading(2, { tempC: 70 })]);
+		const rows = await alertsOf(session.id);
+		const over = rows.find((a) => a.kind === 'over-voltage')!;
+		const hot = rows.find((a) => a.kind === 'over-temperature')!;
+		expect(await acknowledgeAlert(tech, hot.id, 'Charger off, fan on group 2')).toMatchObject({ ok: true });
+
+		// Nine minutes on (the default escalation time is 10): nothing yet.
+		expect(await escalateAlerts(new Date(over.openedAt.getTime() + 9 * MINUTE))).not.toContain(over.id);
+		const due = new Date(over.openedAt.getTime() + 10 * MINUTE);
+		const escalated = await escalateAlerts(due);
+		expect(escalated).toContain(over.id);
+		expect(escalated).not.toContain(hot.id);
+		expect(await escalateAlerts(new Date(due.getTime() + MINUTE))).not.toContain(over.id);
+
+		const esc = (await deliveriesOf(over.id)).filter((d) => d.reason === 'escalation' && d.channel === 'email');
+		expect(esc.map((d) => d.userId).sort()).toEqual([owner.user.id, second.user.id].sort());
+		expect((await deliveriesOf(hot.id)).some((d) => d.reason === 'escalation')).toBe(false);
+		await workQueueNow('deliver-alert');
+		// The second owner is a watcher too: the alert first, then the escalation, one of each.
+		const mails = (await mailTo(second.user.email)).filter((m) => m.subject.includes('Group 1: over voltage'));
+		expect(mails.filter((m) => m.subject.includes('(not acknowledged)'))).toHaveLength(1);
+		expect(mails.filter((m) => m.text.includes('Nobody has acknowledged this act now alert in 10 minutes'))).toHaveLength(1);
+	});
+});
+
+describe('delivery that survives outages and crashes', () => {
+	it('retries an e-mail while the mail server is down for 10 s and delivers it after it is back; the log shows the attempts', async () => {
+		// A mail server of this test's own on a fixed port, stopped and started again.
+		const first = await startFakes({ smtpPort: 0, httpPort: 0, pushPort: 0 });
+		const port = first.smtpPort;
+		await first.close();
+		const saved = process.env.SMTP_URL;
+		process.env.SMTP_URL = `smtp://127.0.0.1:${port}`;
+		rereadServerEnv();
+		let back: Awaited<ReturnType<typeof startFakes>> | undefined;
+		try {
+			const { owner, session } = await sessionFixture();
+			await startJobs('work');
+			await log(owner, session.id, [reading(4, { volts: 4.32 })]);
+			const [alert] = await alertsOf(session.id);
+			const [email] = (await deliveriesOf(alert.id)).filter((d) => d.channel === 'email');
+			await expect.poll(async () => (await deliveriesOf(alert.id)).find((d) => d.id === email.id)!.attempts, { timeout: 15_000 }).toBeGreaterThanOrEqual(2);
+			await new Promise((r) => setTimeout(r, 10_000));
+			back = await startFakes({ smtpPort: port, httpPort: 0, pushPort: 0 });
+			await expect
+				.poll(async () => (await deliveriesOf(alert.id)).find((d) => d.id === email.id)!.status, { timeout: 45_000, interval: 500 })
+				.toBe('sent');
+			const [row] = (await deliveriesOf(alert.id)).filter((d) => d.id === email.id);
+			expect(row.attempts).toBeGreaterThanOrEqual(3);
+			expect(row.log.slice(0, -1).every((a) => !a.ok)).toBe(true);
+			expect(row.log.at(-1)!.ok).toBe(true);
+			expect(back.mailbox.list(owner.user.email).filter((m) => m.subject.includes('Group 4: over voltage'))).toHaveLength(1);
+		} finally {
+			await stopJobs();
+			await back?.close();
+			process.env.SMTP_URL = saved;
+			rereadServerEnv();
+		}
+	}, 90_000);
+
+	it('queues again the outbox rows a crash left behind, and a second job for a sent row sends nothing', async () => {
+		const { owner, session, pack, groups } = await sessionFixture();
+		// The reading and its alert committed, then the process stopped before handing the
+		// deliveries to pg-boss (no dispatch after this transaction).
+		await db.transaction(async (tx) => {
+			await tx.insert(readings).values({
+				sessionId: session.id,
+				packId: pack.id,
+				groupId: groups[1].id,
+				takenAt: new Date(),
+				volts: 4.33,
+				source: 'hand',
+				enteredBy: owner.user.id,
+				clientId: randomUUID()
+			});
+			await evaluateReadingsInTx(tx, session.id);
+		});
+		const [alert] = await alertsOf(session.id);
+		const email = async () => (await deliveriesOf(alert.id)).find((d) => d.channel === 'email')!;
+		const row = await email();
+		expect(row).toMatchObject({ status: 'pending', queuedAt: null });
+		await workQueueNow('deliver-alert');
+		expect((await email()).status).toBe('pending');
+		// The sweep leaves rows younger than 30 s (they may be on their way) and takes older ones.
+		await sweepOutbox();
+		expect((await email()).queuedAt).toBeNull();
+		await db.update(alertDeliveries).set({ createdAt: new Date(Date.now() - 2 * MINUTE) }).where(eq(alertDeliveries.id, row.id));
+		await sweepOutbox();
+		await workQueueNow('deliver-alert');
+		expect((await email())).toMatchObject({ status: 'sent', attempts: 1 });
+		expect(await deliverOne(row.id)).toBe('skipped');
+		const mails = (await mailTo(owner.user.email)).filter((m) => m.subject.includes('Group 2: over voltage'));
+		expect(mails).toHaveLength(1);
+	});
+});
