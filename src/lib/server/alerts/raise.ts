@@ -30,7 +30,7 @@ export const READING_KINDS = ['over-voltage', 'under-voltage', 'over-temperature
 export const CLOCK_KINDS = ['reading-overdue', 'step-overrun'] as const;
 
 /** A condition found, with the group's row id (null: the whole pack or session) and its label. */
-type Found = AlertDraft & { groupRowId: string | null; groupLabel: string | null; readingId: number | null; details?: Record<string, unknown> };
+export type Found = AlertDraft & { groupRowId: string | null; groupLabel: string | null; readingId: number | null; details?: Record<string, unknown> };
 
 export type RaisedAlert = { id: string; kind: StoredAlertKind; severity: AlertDraft['severity']; sessionId: string };
 
@@ -39,7 +39,7 @@ export type AlertChanges = { raised: RaisedAlert[]; cleared: number; deliveries:
 
 const none = (): AlertChanges => ({ raised: [], cleared: 0, deliveries: [] });
 
-type SessionHead = {
+export type SessionHead = {
 	id: string;
 	workshopId: string;
 	packId: string;
@@ -153,7 +153,7 @@ export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new 
 			readingId: newestOf(null)
 		}))
 	];
-	return reconcileAndStore(tx, head, found, READING_KINDS, now);
+	return storeConditions(tx, head, found, READING_KINDS, now);
 }
 
 /**
@@ -186,10 +186,15 @@ export async function evaluateClockInTx(tx: Tx, sessionId: string, now = new Dat
 		}
 	}
 	const kinds = head.status === 'running' ? CLOCK_KINDS : ([...CLOCK_KINDS, 'step-finished'] as const);
-	return reconcileAndStore(tx, head, found, kinds, now);
+	return storeConditions(tx, head, found, kinds, now);
 }
 
-async function reconcileAndStore(tx: Tx, head: SessionHead, found: Found[], kinds: readonly string[], now: Date): Promise<AlertChanges> {
+/**
+ * Reconciles what an evaluation of `kinds` found with the session's active alerts and stores the
+ * outcome: new alerts with their outbox rows for the session's watchers, cleared ones, and the
+ * live views' notice. Any rule's evaluation ends here (readings, the clock, the drift between sessions).
+ */
+export async function storeConditions(tx: Tx, head: SessionHead, found: Found[], kinds: readonly string[], now: Date): Promise<AlertChanges> {
 	const active = await activeAlerts(tx, head.id);
 	// The engine keys a condition by kind and group: give it the group's row id.
 	const plan = reconcileAlerts(
