@@ -94,3 +94,37 @@ export async function plannedSession(page: Page, slug: string): Promise<string> 
 	);
 	return session.id;
 }
+
+export const FAKES_URL = process.env.FAKES_URL ?? 'http://127.0.0.1:9420';
+
+export type FakeSubscription = { endpoint: string; expirationTime: null; keys: { p256dh: string; auth: string } };
+
+/** Replaces PushManager's subscribe/getSubscription in every page of the context with the fake's subscription. */
+export async function fakePushManager(page: Page, subscription: FakeSubscription) {
+	await page.context().addInitScript((sub: FakeSubscription) => {
+		const KEPT = 'e2e-fake-push-key';
+		const made = (serverKey: string) => {
+			const bytes = Uint8Array.from(atob(serverKey), (c) => c.charCodeAt(0));
+			return {
+				endpoint: sub.endpoint,
+				expirationTime: null,
+				options: { userVisibleOnly: true, applicationServerKey: bytes.buffer },
+				toJSON: () => ({ endpoint: sub.endpoint, expirationTime: null, keys: sub.keys }),
+				unsubscribe: async () => {
+					localStorage.removeItem(KEPT);
+					return true;
+				}
+			};
+		};
+		PushManager.prototype.subscribe = async function (options?: PushSubscriptionOptionsInit) {
+			const key = options?.applicationServerKey;
+			if (!(key instanceof Uint8Array)) throw new Error('the page must subscribe with the server key as bytes');
+			localStorage.setItem(KEPT, btoa(Array.from(key, (b) => String.fromCharCode(b)).join('')));
+			return made(localStorage.getItem(KEPT)!) as unknown as PushSubscription;
+		};
+		PushManager.prototype.getSubscription = async function () {
+			const key = localStorage.getItem(KEPT);
+			return (key ? made(key) : null) as unknown as PushSubscription | null;
+		};
+	}, subscription);
+}

@@ -1,5 +1,5 @@
-import { expect, test, type Page } from '@playwright/test';
-import { signUp, uniqueEmail } from './helpers';
+import { expect, test } from '@playwright/test';
+import { FAKES_URL, fakePushManager, signUp, uniqueEmail, type FakeSubscription } from './helpers';
 
 // Push on a phone: the app is installable (manifest and icons), a person turns alerts on for this
 // device from the account page and off again, and the service worker shows what a push brings.
@@ -7,40 +7,6 @@ import { signUp, uniqueEmail } from './helpers';
 // PushManager hands out one made by the local fake push service instead, so the server side —
 // keys, storage — is real.
 test.use({ viewport: { width: 390, height: 844 } });
-
-const FAKES_URL = process.env.FAKES_URL ?? 'http://127.0.0.1:9420';
-
-type FakeSubscription = { endpoint: string; expirationTime: null; keys: { p256dh: string; auth: string } };
-
-/** Replaces PushManager's subscribe/getSubscription in every page of the context with the fake's subscription. */
-async function fakePushManager(page: Page, subscription: FakeSubscription) {
-	await page.context().addInitScript((sub: FakeSubscription) => {
-		const KEPT = 'e2e-fake-push-key';
-		const made = (serverKey: string) => {
-			const bytes = Uint8Array.from(atob(serverKey), (c) => c.charCodeAt(0));
-			return {
-				endpoint: sub.endpoint,
-				expirationTime: null,
-				options: { userVisibleOnly: true, applicationServerKey: bytes.buffer },
-				toJSON: () => ({ endpoint: sub.endpoint, expirationTime: null, keys: sub.keys }),
-				unsubscribe: async () => {
-					localStorage.removeItem(KEPT);
-					return true;
-				}
-			};
-		};
-		PushManager.prototype.subscribe = async function (options?: PushSubscriptionOptionsInit) {
-			const key = options?.applicationServerKey;
-			if (!(key instanceof Uint8Array)) throw new Error('the page must subscribe with the server key as bytes');
-			localStorage.setItem(KEPT, btoa(Array.from(key, (b) => String.fromCharCode(b)).join('')));
-			return made(localStorage.getItem(KEPT)!) as unknown as PushSubscription;
-		};
-		PushManager.prototype.getSubscription = async function () {
-			const key = localStorage.getItem(KEPT);
-			return (key ? made(key) : null) as unknown as PushSubscription | null;
-		};
-	}, subscription);
-}
 
 /** Width and height from a PNG's IHDR chunk (PNG spec, 11.2.2: bytes 16–23, big-endian). */
 function pngSize(bytes: Buffer): { width: number; height: number } {
