@@ -28,9 +28,13 @@ export const load: PageServerLoad = async ({ locals, params, url, depends }) => 
 	const detail = await getSession(member, params.sessionId);
 	const { session, pack } = detail;
 	const runningIds = detail.steps.filter((s) => s.status === 'running').map((s) => s.id);
-	const [readings, watchers] = await Promise.all([loadRunReadings(session.id, runningIds), watcherPanel(member, session.id)]);
+	const [readings, watchers, alerts] = await Promise.all([
+		loadRunReadings(session.id, runningIds),
+		watcherPanel(member, session.id),
+		loadRunAlerts(session.id)
+	]);
 	const now = new Date();
-	const view = buildRunView({ session, pack, groups: detail.groups, steps: detail.steps, readings, now });
+	const view = buildRunView({ session, pack, groups: detail.groups, steps: detail.steps, readings, alerts, now });
 	return {
 		session: {
 			id: session.id,
