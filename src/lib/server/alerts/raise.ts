@@ -11,7 +11,7 @@
  * the outbox. After the commit `dispatchDeliveries` hands them to pg-boss; rows a crash left
  * behind are picked up by the alert clock's sweep (deliver.ts). So nothing committed is lost.
  */
-import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNull, lt, sql } from 'drizzle-orm';
 import { alertAction, alertTitle, alertUnit } from '$lib/alert-words';
 import { routeAlert } from '$lib/alert-routing';
 import { checkClock, reconcileAlerts, type AlertDraft, type Limits } from '$lib/engine';
@@ -211,7 +211,14 @@ export async function storeConditions(tx: Tx, head: SessionHead, found: Found[],
 			.returning({ id: alerts.id });
 		changes.cleared = cleared.length;
 	}
-	if (plan.seen.length) await tx.update(alerts).set({ lastSeenAt: now }).where(inArray(alerts.id, plan.seen));
+	// Seen again: noted at most once a minute, so a logger posting every second does not rewrite
+	// (and lock) the same alert rows on every post.
+	if (plan.seen.length) {
+		await tx
+			.update(alerts)
+			.set({ lastSeenAt: now })
+			.where(and(inArray(alerts.id, plan.seen), lt(alerts.lastSeenAt, new Date(now.getTime() - 60_000))));
+	}
 	for (const f of plan.raise) {
 		const unit = alertUnit(f.kind, head.limits ? { threshold: f.threshold, limits: head.limits } : undefined);
 		const [row] = await tx
