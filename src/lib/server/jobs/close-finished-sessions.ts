@@ -4,6 +4,9 @@
  * Safe to run twice: each session is locked and checked again before it is closed.
  */
 import { and, eq, exists, inArray, not, sql } from 'drizzle-orm';
+import { afterCommit } from '../alerts/deliver';
+import type { AlertChanges } from '../alerts/raise';
+import { compareEndedSession } from '../alerts/session-drift';
 import { db } from '../db';
 import { chargeSessions, sessionSteps } from '../db/schema';
 import { writeAudit } from '../sessions/audit';
@@ -22,9 +25,13 @@ const openStep = (sessionId: typeof chargeSessions.id) =>
 const anyStep = (sessionId: typeof chargeSessions.id) =>
 	db.select({ one: sql`1` }).from(sessionSteps).where(eq(sessionSteps.sessionId, sessionId));
 
-/** Closes one session if, under its row lock, it still runs and has no open step; returns whether it did. */
+/**
+ * Closes one session if, under its row lock, it still runs and has no open step, and compares it with
+ * the pack's earlier sessions (drift alerts, dispatched after the commit); returns whether it did.
+ */
 async function closeOne(sessionId: string, now: Date): Promise<boolean> {
-	return db.transaction(async (tx) => {
+	let raised: AlertChanges | null = null;
+	const closed = await db.transaction(async (tx) => {
 		const [session] = await tx.select().from(chargeSessions).where(eq(chargeSessions.id, sessionId)).for('update');
 		if (!session || session.status !== 'running') return false;
 		// Read after the lock: a step finished or started by someone meanwhile is seen here.
@@ -54,8 +61,11 @@ async function closeOne(sessionId: string, now: Date): Promise<boolean> {
 			at: now
 		});
 		await notifySession(tx, { sessionId, workshopId: session.workshopId, kind: 'status' });
+		raised = await compareEndedSession(tx, sessionId, now);
 		return true;
 	});
+	await afterCommit(raised);
+	return closed;
 }
 
 /** Closes every running session whose steps have all ended; returns the ids it closed. */

@@ -11,6 +11,9 @@
  */
 import { and, eq, inArray, ne, sql } from 'drizzle-orm';
 import type { Action } from '$lib/permissions';
+import { afterCommit } from '../alerts/deliver';
+import type { AlertChanges } from '../alerts/raise';
+import { compareEndedSession } from '../alerts/session-drift';
 import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Tx } from '../db';
 import { chargeSessions, sessionSteps, users, type ChargeSession, type SessionStep } from '../db/schema';
@@ -82,13 +85,14 @@ async function lockSession(tx: Tx, member: Member, sessionId: string): Promise<C
 /**
  * Runs `work` on the locked session of the member's workshop (404 when there is none). With
  * `packFirst`, the pack row is locked before the session (the order createSession and updatePack
- * take), so that two sessions of one pack never start side by side.
+ * take), so that two sessions of one pack never start side by side. Alerts `work` raised (the drift
+ * between sessions when one is done) go into `raised`; their deliveries are dispatched after the commit.
  */
 async function withSession(
 	member: Member,
 	sessionId: string,
 	action: Action,
-	work: (tx: Tx, session: ChargeSession) => Promise<SessionChangeResult>,
+	work: (tx: Tx, session: ChargeSession, raised: AlertChanges[]) => Promise<SessionChangeResult>,
 	packFirst = false
 ): Promise<SessionChangeResult> {
 	requirePermission(member, action);
@@ -101,12 +105,23 @@ async function withSession(
 		if (!found) return notFound();
 		packId = found.packId;
 	}
-	return db.transaction(async (tx) => {
+	const raised: AlertChanges[] = [];
+	const result = await db.transaction(async (tx) => {
 		if (packId && !(await lockPack(tx, member, packId))) return notFound();
 		const session = await lockSession(tx, member, sessionId);
 		if (!session) return notFound();
-		return work(tx, session);
+		return work(tx, session, raised);
 	});
+	for (const changes of raised) await afterCommit(changes);
+	return result;
+}
+
+/** Marks the session done (its audit event and notice) and compares it with the pack's earlier sessions. */
+async function markDone(tx: Tx, member: Member, s: ChargeSession, raised: AlertChanges[], note: Record<string, unknown> = {}) {
+	const now = new Date();
+	const session = await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: now, readingDueAt: null }, note);
+	raised.push(await compareEndedSession(tx, s.id, now));
+	return session;
 }
 
 const actor = (member: Member) => ({ workshopId: member.workshop.id, actorId: member.user.id, actorLabel: member.user.name });
@@ -225,13 +240,13 @@ async function stepsLeft(tx: Tx, sessionId: string): Promise<number> {
 
 /** Marks a running or paused session done once every step has ended (sessions.run). */
 export async function finishSession(member: Member, sessionId: string): Promise<SessionChangeResult> {
-	return withSession(member, sessionId, 'sessions.run', async (tx, s) => {
+	return withSession(member, sessionId, 'sessions.run', async (tx, s, raised) => {
 		if (s.status !== 'running' && s.status !== 'paused') return conflict(wrongState('finish', s.status), 'wrong-state');
 		const left = await stepsLeft(tx, s.id);
 		if (left > 0) {
 			return conflict(`${left === 1 ? 'One step has' : `${left} steps have`} not ended yet: finish or skip ${left === 1 ? 'it' : 'them'} first.`, 'steps-left');
 		}
-		return { ok: true, session: await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date(), readingDueAt: null }) };
+		return { ok: true, session: await markDone(tx, member, s, raised) };
 	});
 }
 
@@ -286,7 +301,8 @@ async function changeStep(
 	s: ChargeSession,
 	step: SessionStep,
 	kind: AuditKind,
-	set: Partial<typeof sessionSteps.$inferInsert> & { status: SessionStep['status'] }
+	set: Partial<typeof sessionSteps.$inferInsert> & { status: SessionStep['status'] },
+	raised: AlertChanges[]
 ): Promise<SessionChangeResult> {
 	const [updated] = await tx.update(sessionSteps).set(set).where(eq(sessionSteps.id, step.id)).returning();
 	const iso = (d: Date | null | undefined) => (d ? d.toISOString() : null);
@@ -303,7 +319,7 @@ async function changeStep(
 	await notifySession(tx, { sessionId: s.id, workshopId: s.workshopId, kind: 'step' });
 	let session = s;
 	if (set.status !== 'running' && (await stepsLeft(tx, s.id)) === 0) {
-		session = await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: new Date(), readingDueAt: null }, { lastStepId: step.id });
+		session = await markDone(tx, member, s, raised, { lastStepId: step.id });
 	}
 	return { ok: true, session, step: updated };
 }
@@ -313,7 +329,7 @@ async function changeStep(
  * time, and a group is on one channel at a time: either busy → 409 in words.
  */
 export async function startStep(member: Member, sessionId: string, stepId: string): Promise<SessionChangeResult> {
-	return withSession(member, sessionId, 'sessions.run', async (tx, s) => {
+	return withSession(member, sessionId, 'sessions.run', async (tx, s, raised) => {
 		if (s.status !== 'running') return conflict(wrongState('step', s.status), 'wrong-state');
 		const step = await lockStep(tx, s.id, stepId);
 		if (!step) return notFound();
@@ -346,7 +362,7 @@ export async function startStep(member: Member, sessionId: string, stepId: strin
 				'group-busy'
 			);
 		}
-		return changeStep(tx, member, s, step, 'step.start', { status: 'running', actualStart: new Date() });
+		return changeStep(tx, member, s, step, 'step.start', { status: 'running', actualStart: new Date() }, raised);
 	});
 }
 
@@ -355,20 +371,20 @@ export async function startStep(member: Member, sessionId: string, stepId: strin
  * (`restReadingDueAt`). When it was the last step, the session is done.
  */
 export async function finishStep(member: Member, sessionId: string, stepId: string): Promise<SessionChangeResult> {
-	return withSession(member, sessionId, 'sessions.run', async (tx, s) => {
+	return withSession(member, sessionId, 'sessions.run', async (tx, s, raised) => {
 		if (s.status !== 'running' && s.status !== 'paused') return conflict(wrongState('step', s.status), 'wrong-state');
 		const step = await lockStep(tx, s.id, stepId);
 		if (!step) return notFound();
 		if (step.status === 'waiting') return conflict('This step has not started: start it, or skip it.', 'wrong-state');
 		if (step.status !== 'running') return conflict('This step has already ended.', 'wrong-state');
 		const now = new Date();
-		return changeStep(tx, member, s, step, 'step.done', { status: 'done', actualEnd: now, restReadingDueAt: restDue(step.role, now) });
+		return changeStep(tx, member, s, step, 'step.done', { status: 'done', actualEnd: now, restReadingDueAt: restDue(step.role, now) }, raised);
 	});
 }
 
 /** Skips a waiting or running step (sessions.run); a running one ends now and asks for its rest reading. */
 export async function skipStep(member: Member, sessionId: string, stepId: string): Promise<SessionChangeResult> {
-	return withSession(member, sessionId, 'sessions.run', async (tx, s) => {
+	return withSession(member, sessionId, 'sessions.run', async (tx, s, raised) => {
 		if (s.status !== 'running' && s.status !== 'paused') return conflict(wrongState('step', s.status), 'wrong-state');
 		const step = await lockStep(tx, s.id, stepId);
 		if (!step) return notFound();
@@ -380,7 +396,8 @@ export async function skipStep(member: Member, sessionId: string, stepId: string
 			s,
 			step,
 			'step.skip',
-			step.status === 'running' ? { status: 'skipped', actualEnd: now, restReadingDueAt: restDue(step.role, now) } : { status: 'skipped' }
+			step.status === 'running' ? { status: 'skipped', actualEnd: now, restReadingDueAt: restDue(step.role, now) } : { status: 'skipped' },
+			raised
 		);
 	});
 }
