@@ -5,7 +5,7 @@ import { SESSION_EVENTS_CHANNEL } from '$lib/server/sessions/notify';
 import { auditEvents, chargeSessions, readings, sessionSteps } from '$lib/server/db/schema';
 import { newId } from '$lib/server/ids';
 import { readingInputSchema } from '$lib/schemas/readings';
-import { logReadings } from '$lib/server/sessions/readings';
+import { editReading, logReadings } from '$lib/server/sessions/readings';
 import * as readingsApi from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/readings/+server';
 import * as readingApi from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/readings/[readingId=num]/+server';
 import { apiEvent, joinAs } from './helpers';
@@ -298,6 +298,15 @@ describe('logging readings', () => {
 		const rows = await db.select().from(readings).where(eq(readings.sessionId, session.id));
 		const stepOf = Object.fromEntries(rows.map((r) => [r.clientId, r.stepId]));
 		expect(stepOf).toEqual({ own: steps[0].id, other: packStep.id, pack: packStep.id, early: packStep.id });
+
+		// A corrected time moves a reading to the step running then: 'early' to two minutes ago is
+		// in group 1's own step; 'own' to three hours ago is before every step began.
+		const idOf = Object.fromEntries(rows.map((r) => [r.clientId, r.id]));
+		expect(await editReading(owner, session.id, idOf.early, { takenAt: minutesAgo(2) })).toMatchObject({ ok: true });
+		expect(await editReading(owner, session.id, idOf.own, { takenAt: minutesAgo(180) })).toMatchObject({ ok: true });
+		const moved = await db.select().from(readings).where(eq(readings.sessionId, session.id));
+		const movedTo = Object.fromEntries(moved.map((r) => [r.clientId, r.stepId]));
+		expect(movedTo).toEqual({ own: null, other: packStep.id, pack: packStep.id, early: steps[0].id });
 	});
 
 	it('logReadings takes a member actor directly (the form actions use it)', async () => {

@@ -413,6 +413,18 @@ export async function editReading(
 					editedBy: member.user.id
 				})
 				.where(eq(readings.id, readingId));
+			// A new time may fall in another step of its group (or none): attach it as logReadings does.
+			if ('takenAt' in after) {
+				await tx.execute(sql`
+					update readings r set step_id = (
+						select s.id from session_steps s
+						where s.session_id = r.session_id
+							and (s.group_id = r.group_id or s.group_id is null)
+							and s.actual_start <= r.taken_at and (s.actual_end is null or s.actual_end >= r.taken_at)
+						order by (s.group_id is null), s.actual_start desc
+						limit 1)
+					where r.id = ${readingId}`);
+			}
 			await writeAudit(tx, {
 				workshopId: head.workshopId,
 				actorId: member.user.id,
