@@ -33,7 +33,12 @@ export function startAlarm(onState: (state: AlarmState) => void): Alarm | null {
 	const Context: AudioContextClass | undefined =
 		globalThis.AudioContext ?? (globalThis as unknown as { webkitAudioContext?: AudioContextClass }).webkitAudioContext;
 	if (!Context) return null;
-	const ctx = new Context();
+	let ctx: AudioContext;
+	try {
+		ctx = new Context();
+	} catch {
+		return null; // too many audio contexts, or audio switched off by policy
+	}
 	let mutedUntil = 0;
 
 	const beep = () => {

@@ -12,7 +12,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const alert = await getAlert(member, params.alertId);
 	// Another workshop's alert, or a pack a viewer does not own: never confirm it exists.
 	if (!alert) error(404, 'Not found');
-	return { alert, now: new Date() };
+	return { alert };
 };
 
 export const actions: Actions = guardActions<Actions>({
