@@ -4,7 +4,8 @@
 // JavaScript, and writes everything as JSON for bench/report.mjs.
 //
 // Environment (set by scripts/bench.sh): BENCH_BASE_URL, BENCH_DATABASE_URL, BENCH_BUILD_DIR,
-// BENCH_VITE_MANIFEST, BENCH_OUT (the JSON written).
+// BENCH_VITE_MANIFEST, BENCH_OUT (the JSON written); BENCH_ALERTS_JSON, the figures of
+// bench/alerts.mjs (measured before, against the server with its jobs on), kept with the rest.
 import fs from 'node:fs';
 import os from 'node:os';
 import postgres from 'postgres';
@@ -39,6 +40,8 @@ try {
 	log('live view: series of 100,000 beside 1,000 readings...');
 	results.series = await series(baseUrl, seeded);
 	results.loadAverageAtEnd = os.loadavg();
+	const alertsFile = process.env.BENCH_ALERTS_JSON;
+	if (alertsFile && fs.existsSync(alertsFile)) results.alerts = JSON.parse(fs.readFileSync(alertsFile, 'utf8'));
 	fs.writeFileSync(out, JSON.stringify(results, null, '\t') + '\n');
 } finally {
 	await sql.end({ timeout: 5 });

@@ -10,7 +10,8 @@ import { newId, expectStatus, benchVolts } from './lib.mjs';
 
 const OWNER_EMAIL = 'owner@larkfield.test';
 
-async function copySession(sql, template, packId, name) {
+/** A running copy of session `template` on pack `packId` (its plan, limits and people; no steps, no readings). */
+export async function copySession(sql, template, packId, name) {
 	const id = newId();
 	await sql.begin(async (tx) => {
 		await tx`create temporary table bench_session on commit drop as select * from charge_sessions where id = ${template}`;
@@ -49,17 +50,45 @@ export async function fillReadings(sql, { sessionId, packId, groups, count, pref
 	}
 }
 
-export async function seed(sql, baseUrl) {
-	const [owner] = await sql`select u.id, w.id as workshop_id, w.slug from users u
+/** A sign-in for user `userId`: a row in the session table lucia reads; returns the cookie (value = its id). */
+export async function signIn(sql, userId) {
+	const authId = newId() + newId();
+	await sql`insert into auth_sessions (id, user_id, expires_at) values (${authId}, ${userId}, now() + interval '1 day')`;
+	return `cellsitter_session=${authId}`;
+}
+
+/** A device token for the session, through the app's own endpoint (issued to a builder or owner). */
+export async function deviceToken(baseUrl, slug, sessionId, cookie, name = 'Bench logger') {
+	const response = await fetch(`${baseUrl}/api/w/${slug}/sessions/${sessionId}/tokens`, {
+		method: 'POST',
+		headers: { 'content-type': 'application/json', cookie, origin: baseUrl },
+		body: JSON.stringify({ name })
+	});
+	await expectStatus(response, [201], 'issuing a device token');
+	return (await response.json()).token;
+}
+
+/**
+ * The demo's owner and workshop, its pack with the most groups and a session planned through the
+ * app to copy (on that pack when there is one).
+ */
+export async function demoBasis(sql) {
+	const [owner] = await sql`select u.id, u.email, w.id as workshop_id, w.slug from users u
 		join memberships m on m.user_id = u.id and m.role = 'owner' join workshops w on w.id = m.workshop_id
 		where u.email = ${OWNER_EMAIL}`;
 	if (!owner) throw new Error(`No demo workshop: the server did not load the demo (${OWNER_EMAIL} is missing).`);
 	const [pack] = await sql`select p.id, p.name, p.series, p.parallel from packs p where p.workshop_id = ${owner.workshop_id}
 		order by p.series desc, p.name limit 1`;
 	const groups = await sql`select id, index from pack_groups where pack_id = ${pack.id} order by index`;
-	const [template] = await sql`select id from charge_sessions where workshop_id = ${owner.workshop_id}
+	// The demo's own sessions only: the copies keep the planned session's created_at.
+	const [template] = await sql`select id from charge_sessions where workshop_id = ${owner.workshop_id} and name not like 'Bench: %'
 		order by (pack_id = ${pack.id}) desc, created_at limit 1`;
 	if (!template) throw new Error('The demo has no charge session to copy: the bench needs one planned through the app.');
+	return { owner, pack, groups, template };
+}
+
+export async function seed(sql, baseUrl) {
+	const { owner, pack, groups, template } = await demoBasis(sql);
 
 	const ingest = await copySession(sql, template.id, pack.id, 'Bench: ingest');
 	const small = await copySession(sql, template.id, pack.id, 'Bench: 1,000 readings');
@@ -68,19 +97,8 @@ export async function seed(sql, baseUrl) {
 	await fillReadings(sql, { sessionId: large, packId: pack.id, groups, count: 100_000, prefix: 'large' });
 	await sql`analyze readings`;
 
-	// A sign-in for the owner: a row in the session table lucia reads (cookie value = its id).
-	const authId = newId() + newId();
-	await sql`insert into auth_sessions (id, user_id, expires_at) values (${authId}, ${owner.id}, now() + interval '1 day')`;
-	const cookie = `cellsitter_session=${authId}`;
-
-	// The device token through the app's own endpoint (issued to a builder or owner).
-	const tokenResponse = await fetch(`${baseUrl}/api/w/${owner.slug}/sessions/${ingest}/tokens`, {
-		method: 'POST',
-		headers: { 'content-type': 'application/json', cookie, origin: baseUrl },
-		body: JSON.stringify({ name: 'Bench logger' })
-	});
-	await expectStatus(tokenResponse, [201], 'issuing a device token');
-	const { token } = await tokenResponse.json();
+	const cookie = await signIn(sql, owner.id);
+	const token = await deviceToken(baseUrl, owner.slug, ingest, cookie);
 
 	return {
 		slug: owner.slug,

@@ -3,7 +3,9 @@
 #
 # Builds a copy of the working tree (or CELLSITTER_BENCH_REF=<commit>) in a temporary folder (never
 # build/, which `npm start` serves), runs the engine's vitest benchmarks there, starts a database of its own on the throwaway test cluster (scripts/pg.sh
-# --test) and the built server on a free port with CELLSITTER_BENCH=1 (the bare route), seeds the
+# --test), measures alert delivery (bench/alerts.mjs: the built server with its background jobs
+# and the local fakes of the mail and push services, on free ports), starts the built server on a
+# free port with CELLSITTER_BENCH=1 (the bare route), seeds the
 # demo workshop and bench sessions, measures (bench/run.mjs), checks the build over HTTPS
 # (scripts/https.js), and rewrites docs/performance.md (bench/report.mjs). Everything it started is
 # stopped by PID; the test cluster is stopped only when this script started it.
@@ -15,6 +17,8 @@ WORK=
 BENCH_SOURCE=
 SERVER_PID=
 HTTPS_PID=
+ALERTS_PID=
+FAKES_PID=
 PG_STARTED=
 ADMIN_URL=
 BENCH_DB=
@@ -24,6 +28,10 @@ cleanup() {
 	SERVER_PID=
 	stop_pid "$HTTPS_PID" "bench HTTPS server" 15
 	HTTPS_PID=
+	stop_pid "$ALERTS_PID" "alert bench server" 15
+	ALERTS_PID=
+	stop_pid "$FAKES_PID" "local fakes" 15
+	FAKES_PID=
 	if [ -n "$BENCH_DB" ] && [ -n "$ADMIN_URL" ]; then
 		sql_admin "drop database if exists $BENCH_DB with (force)" || say "Could not drop the bench database $BENCH_DB."
 		BENCH_DB=
@@ -129,6 +137,44 @@ start_server() {
 	say "Built app on $BASE_URL (PID $SERVER_PID)."
 }
 
+# Alert delivery (bench/alerts.mjs): the same build with its background jobs in-process (the
+# default) and the local fakes (tests/fakes/server.js) on free ports, before the HTTP part: the
+# delivery queue starts empty, and the HTTP part's load data (which raises alerts of its own) is
+# not there yet. If this part fails, the bench goes on and the page says "not measured".
+alert_delivery() {
+	heading "alert delivery (bench/alerts.mjs)"
+	local smtp_port http_port push_port port tries=0
+	until [ "$tries" -ge 3 ]; do
+		tries=$((tries + 1))
+		smtp_port="$(free_port)" http_port="$(free_port)" push_port="$(free_port)"
+		if [ "$smtp_port" != "$http_port" ] && [ "$http_port" != "$push_port" ] && [ "$smtp_port" != "$push_port" ] &&
+			start_fakes "$smtp_port" "$http_port" "$push_port" "$WORK/fakes.log"; then
+			break
+		fi
+	done
+	if [ -z "$FAKES_PID" ]; then
+		say "Alert delivery not measured: the local fakes did not start."
+		return 0
+	fi
+	port="$(free_port)"
+	server_env PORT="$port" ORIGIN="http://127.0.0.1:$port" CELLSITTER_JOBS=in-process CELLSITTER_FAKES=1 \
+		FAKES_URL="http://127.0.0.1:$http_port" SMTP_URL="smtp://127.0.0.1:$smtp_port" \
+		node "$WORK/build" </dev/null >"$WORK/alerts-server.log" 2>&1 &
+	ALERTS_PID=$!
+	if wait_for_http "http://127.0.0.1:$port/" 120 "$ALERTS_PID"; then
+		BENCH_BASE_URL="http://127.0.0.1:$port" BENCH_DATABASE_URL="$BENCH_DATABASE_URL" BENCH_FAKES_URL="http://127.0.0.1:$http_port" \
+			BENCH_SOURCE_DIR="$WORK/src" BENCH_OUT="$WORK/alerts.json" node bench/alerts.mjs </dev/null ||
+			say "Alert delivery not measured: bench/alerts.mjs failed (above; the server's log: $WORK/alerts-server.log)."
+	else
+		say "Alert delivery not measured: the built app with jobs did not come up; the end of its log:"
+		tail -n 40 "$WORK/alerts-server.log" >&2 || true
+	fi
+	stop_pid "$ALERTS_PID" "alert bench server" 15
+	ALERTS_PID=
+	stop_pid "$FAKES_PID" "local fakes" 15
+	FAKES_PID=
+}
+
 # The same build through scripts/https.js, `/` fetched trusting only the generated authority.
 https_check() {
 	heading "HTTPS check (scripts/https.js)"
@@ -170,9 +216,10 @@ main() {
 	build
 	engine_benchmarks
 	start_database
+	alert_delivery
 	start_server
 	heading "HTTP and database (bench/run.mjs)"
-	BENCH_BASE_URL="$BASE_URL" BENCH_DATABASE_URL="$BENCH_DATABASE_URL" BENCH_BUILD_DIR="$WORK/build" \
+	BENCH_BASE_URL="$BASE_URL" BENCH_DATABASE_URL="$BENCH_DATABASE_URL" BENCH_BUILD_DIR="$WORK/build" BENCH_ALERTS_JSON="$WORK/alerts.json" \
 		BENCH_VITE_MANIFEST="$WORK/vite-manifest.json" BENCH_OUT="$WORK/http.json" BENCH_SOURCE="$BENCH_SOURCE" node bench/run.mjs </dev/null
 	stop_pid "$SERVER_PID" "bench server" 15
 	SERVER_PID=
