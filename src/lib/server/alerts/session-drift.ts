@@ -68,6 +68,7 @@ export async function compareEndedSession(tx: Tx, sessionId: string, now = new D
 		.where(eq(chargeSessions.id, sessionId));
 	if (!row || row.session.status !== 'done' || !row.session.endedAt) return none();
 	const { session, pack, spec, profile } = row;
+	const endedAt = row.session.endedAt;
 	const target = targetKey(session);
 	if (target === null) return none();
 	const limits = sessionLimits({
@@ -82,7 +83,7 @@ export async function compareEndedSession(tx: Tx, sessionId: string, now = new D
 	const rows = (await tx.execute(sql`
 		with s as (
 			select c.id, c.ended_at from charge_sessions c
-			where c.pack_id = ${pack.id} and c.status = 'done' and c.ended_at is not null and c.ended_at <= ${session.endedAt.toISOString()}::timestamptz
+			where c.pack_id = ${pack.id} and c.status = 'done' and c.ended_at is not null and c.ended_at <= ${endedAt.toISOString()}::timestamptz
 				and c.target = ${session.target}
 				and (c.target <> 'volts' or round(c.target_volts::numeric, 3) = round(${session.targetVolts ?? 0}::numeric, 3))
 			order by c.ended_at desc, c.id
