@@ -6,7 +6,7 @@ import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import postgres from 'postgres';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb, db } from '$lib/server/db';
-import { auditEvents, chargeSessions, packGroups, packs, readings, sessionSteps, users } from '$lib/server/db/schema';
+import { alertDeliveries, alerts, auditEvents, chargeSessions, packGroups, packs, readings, sessionSteps, users } from '$lib/server/db/schema';
 import { loadDemoIfEmpty } from '$lib/server/demo';
 import { rereadServerEnv } from '$lib/server/env';
 import { runReadingClock } from '$lib/server/jobs/reading-clock';
@@ -50,7 +50,7 @@ async function sessionsOf(packName: string) {
 
 describe('the demo sessions', () => {
 	it("has the cargo trike's overnight top balance done, with hourly readings of every group and a night watch", async () => {
-		const rows = await sessionsOf('Cargo trike pack');
+		const rows = (await sessionsOf('Cargo trike pack')).filter((r) => r.session.name === 'First top balance');
 		expect(rows).toHaveLength(1);
 		const s = rows[0].session;
 		expect(s).toMatchObject({ status: 'done', kind: 'channels' });
@@ -97,6 +97,56 @@ describe('the demo sessions', () => {
 		}
 		const done = await db.select().from(auditEvents).where(and(eq(auditEvents.sessionId, s.id), eq(auditEvents.kind, 'session.done')));
 		expect(done).toHaveLength(1);
+	});
+
+	it("has the trike's charge a month of riding later, whose drift alert on group 7 the technician acknowledged", async () => {
+		const rides = (await sessionsOf('Cargo trike pack')).filter((r) => r.session.name !== 'First top balance');
+		expect(rides).toHaveLength(1);
+		const s = rides[0].session;
+		expect(s).toMatchObject({ status: 'done', target: 'full' });
+		const [first] = (await sessionsOf('Cargo trike pack')).filter((r) => r.session.name === 'First top balance');
+		// About a month after the top balance, and over before now.
+		expect(s.startedAt!.getTime() - first.session.endedAt!.getTime()).toBeGreaterThan(25 * 24 * HOUR);
+		expect(s.endedAt!.getTime()).toBeLessThan(loadedAt.getTime());
+		expect((s.planSummary as { unattended: unknown[] }).unattended).toEqual([]);
+
+		const [tech] = await db.select().from(users).where(eq(users.email, 'technician@larkfield.test'));
+		const [seven] = await db.select().from(packGroups).where(and(eq(packGroups.packId, s.packId), eq(packGroups.index, 7)));
+		const raised = await db.select().from(alerts).where(eq(alerts.sessionId, s.id));
+		expect(raised).toHaveLength(1);
+		const alert = raised[0];
+		expect(alert).toMatchObject({ kind: 'session-drift', severity: 'warning', groupId: seven.id, acknowledgedBy: tech.id });
+		expect(alert.title).toMatch(/^Group 7: /);
+		expect(alert.message).toMatch(/^Group 7 ended 40 mV below the others/);
+		expect(alert.acknowledgedAt!.getTime()).toBeGreaterThan(alert.openedAt.getTime());
+		expect(alert.ackNote.length).toBeGreaterThan(10);
+		const details = alert.details as { previousSessionId: string; gapVolts: number };
+		expect(details.previousSessionId).toBe(first.session.id);
+
+		// Its numbers are the readings': group 7's last reading of the balancing step against the others'.
+		const lastStep = (await db.select().from(sessionSteps).where(eq(sessionSteps.sessionId, s.id)).orderBy(asc(sessionSteps.position))).at(-1)!;
+		const atEnd = await db.execute<{ group_id: string; volts: number }>(sql`
+			select distinct on (group_id) group_id, volts from readings
+			where session_id = ${s.id} and group_id is not null and volts is not null
+				and taken_at between ${lastStep.actualStart!.toISOString()}::timestamptz and ${lastStep.actualEnd!.toISOString()}::timestamptz
+			order by group_id, taken_at desc`);
+		expect(atEnd).toHaveLength(13);
+		const own = atEnd.find((r) => r.group_id === seven.id)!;
+		const others = atEnd.filter((r) => r.group_id !== seven.id);
+		const gap = own.volts - others.reduce((sum, r) => sum + r.volts, 0) / others.length;
+		expect(gap).toBeLessThan(0);
+		expect(Math.round(Math.abs(gap) * 1000)).toBe(40);
+		expect(details.gapVolts).toBeCloseTo(gap, 6);
+
+		// Acknowledged as the app does it: the audit row by the technician.
+		const acks = await db.select().from(auditEvents).where(and(eq(auditEvents.subjectId, alert.id), eq(auditEvents.kind, 'alert.acknowledge')));
+		expect(acks).toHaveLength(1);
+		expect(acks[0]).toMatchObject({ actorId: tech.id, sessionId: s.id });
+		expect(acks[0].at.getTime()).toBe(alert.acknowledgedAt!.getTime());
+		// Its e-mails went out when it was raised; none waits to be sent now.
+		const sent = await db.select().from(alertDeliveries).where(eq(alertDeliveries.alertId, alert.id));
+		expect(sent.some((d) => d.userId === tech.id && d.channel === 'email' && d.status === 'sent')).toBe(true);
+		expect(sent.filter((d) => d.status === 'pending')).toEqual([]);
 	});
 
 	it("has the camper battery's session running now: bulk done, a top-up step running, a reading within the hour", async () => {
@@ -149,6 +199,7 @@ describe('the demo sessions', () => {
 		expect(owner.canPlan).toBe(true);
 		expect(owner.sessions.map((s) => [s.packName, s.status])).toEqual([
 			['Camper house battery', 'running'],
+			['Cargo trike pack', 'done'],
 			['Cargo trike pack', 'done']
 		]);
 		const camper = owner.sessions[0];
@@ -159,7 +210,7 @@ describe('the demo sessions', () => {
 		// The pack's owner is a viewer: the trike's session only, and no planning.
 		const viewer = await pageFor('viewer@larkfield.test');
 		expect(viewer.canPlan).toBe(false);
-		expect(viewer.sessions.map((s) => s.packName)).toEqual(['Cargo trike pack']);
+		expect(viewer.sessions.map((s) => s.packName)).toEqual(['Cargo trike pack', 'Cargo trike pack']);
 
 		// Two hours on with no reading, the clock marks the camper's session and the list shows it.
 		await runReadingClock(new Date(Date.now() + 2 * HOUR));
