@@ -1,4 +1,5 @@
-import { expect, test } from '@playwright/test';
+import AxeBuilder from '@axe-core/playwright';
+import { expect, test, type Page } from '@playwright/test';
 import { PASSWORD, linkFromMailbox, plannedSession, signOut, signUp, uniqueEmail } from './helpers';
 
 // The screens of an alert on a phone: an over-voltage reading on the run screen turns group 1's
@@ -112,4 +113,47 @@ test('a critical alert: tile, alarm, red strip, inbox, alert page and acknowledg
 	const again = await page.request.post(`/api/w/${slug}/alerts/${alertId}/ack`, { data: {} });
 	expect(again.status()).toBe(409);
 	expect((await again.json()).message).toMatch(/already acknowledged by you/);
+});
+
+/** axe's WCAG 2 A/AA rules on the page as it stands, light; contrast only in dark (as accessibility.test.ts). */
+async function axeViolations(page: Page): Promise<string[]> {
+	const found: string[] = [];
+	for (const colorScheme of ['light', 'dark'] as const) {
+		await page.emulateMedia({ colorScheme });
+		const axe = new AxeBuilder({ page });
+		if (colorScheme === 'dark') axe.withRules(['color-contrast', 'link-in-text-block']);
+		else axe.withTags(['wcag2a', 'wcag2aa', 'best-practice']);
+		for (const v of (await axe.analyze()).violations) found.push(`${colorScheme}: ${v.id} at ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`);
+	}
+	return found;
+}
+
+test('the red strip, the alarm, the inbox and the alert page pass axe in light and dark', async ({ page }) => {
+	test.setTimeout(180_000);
+	const slug = await signUp(page, { name: 'Axe Alert', email: uniqueEmail('alerts-axe'), workshop: 'Axe Alert Bench' });
+	const sessionId = await plannedSession(page, slug);
+	await page.goto(`/w/${slug}/sessions/${sessionId}`);
+	await page.getByRole('button', { name: 'Start session' }).click();
+	await page.getByRole('button', { name: 'Start step' }).click();
+	await expect(page.getByText('Group 1 on the charger: 4.20\u2009V, 2\u2009A')).toBeVisible();
+	const posted = await page.request.post(`/api/w/${slug}/sessions/${sessionId}/readings`, {
+		data: {
+			readings: [
+				{ clientId: 'axe-1', groupIndex: 1, takenAt: new Date().toISOString(), volts: 4.31 },
+				{ clientId: 'axe-2', groupIndex: 2, takenAt: new Date().toISOString(), volts: 3.6, tempC: 47 }
+			]
+		}
+	});
+	expect(posted.status(), await posted.text()).toBe(201);
+	await expect(page.getByRole('region', { name: 'Alarm' })).toBeVisible();
+	await expect(page.getByRole('complementary', { name: 'Critical alert' })).toBeVisible();
+	expect(await axeViolations(page), 'run screen').toEqual([]);
+
+	await page.goto(`/w/${slug}/alerts`);
+	await expect(page.getByRole('region', { name: /Needing attention/ }).getByRole('listitem')).toHaveCount(2);
+	expect(await axeViolations(page), 'inbox').toEqual([]);
+
+	await page.getByRole('complementary', { name: 'Critical alert' }).getByRole('link', { name: 'Open the alert' }).click();
+	await expect(page.getByRole('region', { name: 'What to do now' })).toBeVisible();
+	expect(await axeViolations(page), 'alert page').toEqual([]);
 });
