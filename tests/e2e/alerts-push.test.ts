@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { FAKES_URL, fakePushManager, plannedSession, signUp, uniqueEmail, type FakeSubscription } from './helpers';
+import { FAKES_URL, plannedSession, serviceWorkerPush, signUp, turnOnPush, uniqueEmail } from './helpers';
 
 // An alert from end to end on a phone: push turned on from the account page, an over-temperature
 // reading logged on the run screen, the alert on the group's tile and in the inbox, the push the
@@ -8,19 +8,9 @@ import { FAKES_URL, fakePushManager, plannedSession, signUp, uniqueEmail, type F
 // 13), so the payload the fake received is handed to the service worker through DevTools.
 test.use({ viewport: { width: 390, height: 844 } });
 
-test('an over-temperature reading reaches the tile, the inbox and the phone as a notification, and is acknowledged', async ({ page, context, baseURL }) => {
+test('an over-temperature reading reaches the tile, the inbox and the phone as a notification, and is acknowledged', async ({ page, baseURL }) => {
 	const slug = await signUp(page, { name: 'Hal Heat', email: uniqueEmail('heat'), workshop: 'Hal Bench' });
-	await context.grantPermissions(['notifications'], { origin: baseURL });
-	const { publicKey } = (await (await page.request.get('/api/push-subscriptions/key')).json()) as { publicKey: string };
-	const made = await page.request.post(`${FAKES_URL}/push/subscriptions`, { data: { applicationServerKey: publicKey } });
-	expect(made.status()).toBe(201);
-	const subscription = (await made.json()) as FakeSubscription;
-	await fakePushManager(page, subscription);
-
-	await page.goto('/account');
-	const card = page.getByRole('region', { name: 'Alerts on this device' });
-	await card.getByRole('button', { name: 'Send alerts to this phone' }).click();
-	await expect(card.getByText('Alerts will come to this device.')).toBeVisible();
+	const subscription = await turnOnPush(page, baseURL!);
 
 	const sessionId = await plannedSession(page, slug);
 	await page.goto(`/w/${slug}/sessions/${sessionId}`);
@@ -52,25 +42,11 @@ test('an over-temperature reading reaches the tile, the inbox and the phone as a
 	expect(payload!.body).toContain('Disconnect the charger from group 1 now.');
 
 	// The service worker shows that very payload.
-	const cdp = await context.newCDPSession(page);
-	const registrationId = new Promise<string>((resolve) => {
-		cdp.on('ServiceWorker.workerRegistrationUpdated', ({ registrations }) => {
-			const mine = registrations.find((r) => !r.isDeleted && r.scopeURL === `${new URL(baseURL!).origin}/`);
-			if (mine) resolve(mine.registrationId);
-		});
-	});
-	await cdp.send('ServiceWorker.enable');
-	await cdp.send('ServiceWorker.deliverPushMessage', {
-		origin: new URL(baseURL!).origin,
-		registrationId: await registrationId,
-		data: JSON.stringify(payload)
-	});
-	const shown = () =>
-		page.evaluate(async (tag) => {
-			const registration = await navigator.serviceWorker.ready;
-			return (await registration.getNotifications({ tag })).map((n) => ({ title: n.title, url: (n.data as { url: string }).url, sticky: n.requireInteraction }));
-		}, payload!.tag);
-	await expect.poll(shown).toEqual([{ title: payload!.title, url: payload!.url, sticky: true }]);
+	const sw = await serviceWorkerPush(page, baseURL!);
+	await sw.push(JSON.stringify(payload));
+	await expect
+		.poll(async () => (await sw.shown(payload!.tag)).map((n) => ({ title: n.title, url: n.data.url, sticky: n.requireInteraction })))
+		.toEqual([{ title: payload!.title, url: payload!.url, sticky: true }]);
 	const alertPath = new URL(payload!.url).pathname;
 
 	// The inbox lists it first; its page says what to do; acknowledging it ends the red strip.

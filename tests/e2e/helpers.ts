@@ -128,3 +128,51 @@ export async function fakePushManager(page: Page, subscription: FakeSubscription
 		};
 	}, subscription);
 }
+
+/**
+ * Turns push on for this phone from the account page: notifications granted, and the page's
+ * PushManager handing out a subscription the fake push service made for the server's VAPID key.
+ */
+export async function turnOnPush(page: Page, baseURL: string): Promise<FakeSubscription> {
+	await page.context().grantPermissions(['notifications'], { origin: baseURL });
+	const { publicKey } = (await (await page.request.get('/api/push-subscriptions/key')).json()) as { publicKey: string };
+	const made = await page.request.post(`${FAKES_URL}/push/subscriptions`, { data: { applicationServerKey: publicKey } });
+	expect(made.status()).toBe(201);
+	const subscription = (await made.json()) as FakeSubscription;
+	await fakePushManager(page, subscription);
+	await page.goto('/account');
+	const card = page.getByRole('region', { name: 'Alerts on this device' });
+	await expect(card.getByText('Alerts do not come to this device.')).toBeVisible();
+	await card.getByRole('button', { name: 'Send alerts to this phone' }).click();
+	await expect(card.getByText('Alerts will come to this device.')).toBeVisible();
+	return subscription;
+}
+
+/**
+ * The page's service worker as DevTools sees it: `push(data)` hands it a push message (as a push
+ * service would), `shown(tag)` lists the notifications it shows with that tag.
+ */
+export async function serviceWorkerPush(page: Page, baseURL: string) {
+	const origin = new URL(baseURL).origin;
+	const cdp = await page.context().newCDPSession(page);
+	const registrationId = new Promise<string>((resolve) => {
+		cdp.on('ServiceWorker.workerRegistrationUpdated', ({ registrations }) => {
+			const mine = registrations.find((r) => !r.isDeleted && r.scopeURL === `${origin}/`);
+			if (mine) resolve(mine.registrationId);
+		});
+	});
+	await cdp.send('ServiceWorker.enable');
+	return {
+		push: async (data: string) => cdp.send('ServiceWorker.deliverPushMessage', { origin, registrationId: await registrationId, data }),
+		shown: (tag: string) =>
+			page.evaluate(async (t) => {
+				const registration = await navigator.serviceWorker.ready;
+				return (await registration.getNotifications({ tag: t })).map((n) => ({
+					title: n.title,
+					body: n.body,
+					data: n.data as { url: string },
+					requireInteraction: n.requireInteraction
+				}));
+			}, tag)
+	};
+}

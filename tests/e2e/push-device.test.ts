@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { FAKES_URL, fakePushManager, signUp, uniqueEmail, type FakeSubscription } from './helpers';
+import { serviceWorkerPush, signUp, turnOnPush, uniqueEmail } from './helpers';
 
 // Push on a phone: the app is installable (manifest and icons), a person turns alerts on for this
 // device from the account page and off again, and the service worker shows what a push brings.
@@ -45,22 +45,10 @@ test('the app links a valid manifest whose icons load at their stated sizes', as
 	expect(pngSize(await touchIcon.body())).toEqual({ width: 180, height: 180 });
 });
 
-test('a person turns push alerts on for this phone and off again; the service worker shows a push', async ({ page, context, baseURL }) => {
+test('a person turns push alerts on for this phone and off again; the service worker shows a push', async ({ page, baseURL }) => {
 	await signUp(page, { name: 'Pia Push', email: uniqueEmail('push'), workshop: 'Pia Bench' });
-	await context.grantPermissions(['notifications'], { origin: baseURL });
-
-	// A subscription at the fake push service, for the server's own VAPID key.
-	const { publicKey } = (await (await page.request.get('/api/push-subscriptions/key')).json()) as { publicKey: string };
-	const made = await page.request.post(`${FAKES_URL}/push/subscriptions`, { data: { applicationServerKey: publicKey } });
-	expect(made.status()).toBe(201);
-	const subscription = (await made.json()) as FakeSubscription;
-	await fakePushManager(page, subscription);
-
-	await page.goto('/account');
+	const subscription = await turnOnPush(page, baseURL!);
 	const card = page.getByRole('region', { name: 'Alerts on this device' });
-	await expect(card.getByText('Alerts do not come to this device.')).toBeVisible();
-	await card.getByRole('button', { name: 'Send alerts to this phone' }).click();
-	await expect(card.getByText('Alerts will come to this device.')).toBeVisible();
 	await expect(card.getByText('Alerts come to this device')).toBeVisible();
 
 	const devices = async () =>
@@ -75,26 +63,7 @@ test('a person turns push alerts on for this phone and off again; the service wo
 	await expect(card.getByRole('button', { name: 'Stop alerts on this phone' })).toBeVisible();
 
 	// The service worker's push handler, through DevTools' own push delivery.
-	const cdp = await context.newCDPSession(page);
-	const registrationId = new Promise<string>((resolve) => {
-		cdp.on('ServiceWorker.workerRegistrationUpdated', ({ registrations }) => {
-			const mine = registrations.find((r) => !r.isDeleted && r.scopeURL === `${new URL(baseURL!).origin}/`);
-			if (mine) resolve(mine.registrationId);
-		});
-	});
-	await cdp.send('ServiceWorker.enable');
-	const push = async (data: string) =>
-		cdp.send('ServiceWorker.deliverPushMessage', { origin: new URL(baseURL!).origin, registrationId: await registrationId, data });
-	const shown = (tag: string) =>
-		page.evaluate(async (t) => {
-			const registration = await navigator.serviceWorker.ready;
-			return (await registration.getNotifications({ tag: t })).map((n) => ({
-				title: n.title,
-				body: n.body,
-				data: n.data as { url: string },
-				requireInteraction: n.requireInteraction
-			}));
-		}, tag);
+	const { push, shown } = await serviceWorkerPush(page, baseURL!);
 
 	await push(
 		JSON.stringify({

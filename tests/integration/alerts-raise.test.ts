@@ -13,12 +13,13 @@ import { deliverOne, escalateAlerts, runAlertClock, sweepOutbox } from '$lib/ser
 import { evaluateReadingsInTx } from '$lib/server/alerts/raise';
 import type { Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
-import { alertDeliveries, alerts, chargeSessions, memberships, pushSubscriptions, readings } from '$lib/server/db/schema';
+import { alertDeliveries, alerts, auditEvents, chargeSessions, memberships, pushSubscriptions, readings } from '$lib/server/db/schema';
 import { rereadServerEnv } from '$lib/server/env';
 import { fakePushes, makeFakePushSubscription } from '$lib/server/fakes';
 import { newId } from '$lib/server/ids';
 import { startJobs, stopJobs, workQueueNow } from '$lib/server/jobs/registry';
 import { readingInputSchema } from '$lib/schemas/readings';
+import { finishStep } from '$lib/server/sessions/core';
 import { logReadings } from '$lib/server/sessions/readings';
 import { startFakes } from '../fakes/server.js';
 import { joinAs, mailTo } from './helpers';
@@ -141,7 +142,7 @@ describe('alerts raised on readings', () => {
 	});
 
 	it('quiet time holds back an information alert for a watcher, not for the technician on watch, never a critical one', async () => {
-		const { owner, session } = await sessionFixture();
+		const { owner, session, steps } = await sessionFixture();
 		const tech = await joinAs(owner, 'technician');
 		await db.update(chargeSessions).set({ watchUserId: tech.user.id }).where(eq(chargeSessions.id, session.id));
 		// Both quiet all day but one minute (a window that always holds now, whatever the zone).
@@ -167,6 +168,17 @@ describe('alerts raised on readings', () => {
 		const critical = await deliveriesOf(hot.id);
 		expect(byPerson(critical, owner.user.id)).toEqual([['watcher', 'pending']]);
 		expect(byPerson(critical, tech.user.id)).toEqual([['on-watch', 'pending']]);
+
+		// Ending the step answers its note: cleared and acknowledged by whoever ended it, in the audit.
+		expect(await finishStep(tech, session.id, steps[0].id)).toMatchObject({ ok: true });
+		const [settled] = (await alertsOf(session.id)).filter((a) => a.kind === 'step-finished');
+		expect(settled).toMatchObject({ acknowledgedBy: tech.user.id, ackNote: 'Step ended.' });
+		expect(settled.clearedAt).not.toBeNull();
+		const audit = await db
+			.select()
+			.from(auditEvents)
+			.where(and(eq(auditEvents.subjectType, 'alert'), eq(auditEvents.subjectId, finished.id)));
+		expect(audit.map((a) => [a.kind, a.actorId])).toEqual([['alert.acknowledge', tech.user.id]]);
 	});
 });
 

@@ -147,3 +147,17 @@ export async function compareEndedSession(tx: Tx, sessionId: string, now = new D
 	}));
 	return storeConditions(tx, { id: session.id, workshopId: session.workshopId, packId: session.packId, status: session.status, limits }, found, SESSION_DRIFT_KINDS, now);
 }
+
+/**
+ * The comparison inside a savepoint of the transaction that marks the session done: whatever goes
+ * wrong with it (it should not), the session is still done; the failure is logged and no drift
+ * alert is raised for it.
+ */
+export async function compareEndedSessionSafely(tx: Tx, sessionId: string, now = new Date()): Promise<AlertChanges> {
+	try {
+		return await tx.transaction((savepoint) => compareEndedSession(savepoint, sessionId, now));
+	} catch (e) {
+		console.error(`The drift between sessions could not be compared for session ${sessionId}.`, e);
+		return { raised: [], cleared: 0, deliveries: [] };
+	}
+}

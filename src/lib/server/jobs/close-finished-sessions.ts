@@ -6,7 +6,7 @@
 import { and, eq, exists, inArray, not, sql } from 'drizzle-orm';
 import { afterCommit } from '../alerts/deliver';
 import type { AlertChanges } from '../alerts/raise';
-import { compareEndedSession } from '../alerts/session-drift';
+import { compareEndedSessionSafely } from '../alerts/session-drift';
 import { db } from '../db';
 import { chargeSessions, sessionSteps } from '../db/schema';
 import { writeAudit } from '../sessions/audit';
@@ -61,7 +61,7 @@ async function closeOne(sessionId: string, now: Date): Promise<boolean> {
 			at: now
 		});
 		await notifySession(tx, { sessionId, workshopId: session.workshopId, kind: 'status' });
-		raised = await compareEndedSession(tx, sessionId, now);
+		raised = await compareEndedSessionSafely(tx, sessionId, now);
 		return true;
 	});
 	await afterCommit(raised);

@@ -9,14 +9,14 @@
  * Owners and builders start sessions (plans.edit); anyone who may run one — owner, builder, any
  * technician — may pause, resume, stop it at once, start and end steps and take the watch.
  */
-import { and, eq, inArray, ne, sql } from 'drizzle-orm';
+import { and, eq, inArray, isNull, ne, sql } from 'drizzle-orm';
 import type { Action } from '$lib/permissions';
 import { afterCommit } from '../alerts/deliver';
 import type { AlertChanges } from '../alerts/raise';
-import { compareEndedSession } from '../alerts/session-drift';
+import { compareEndedSessionSafely } from '../alerts/session-drift';
 import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Tx } from '../db';
-import { chargeSessions, sessionSteps, users, type ChargeSession, type SessionStep } from '../db/schema';
+import { alerts, chargeSessions, sessionSteps, users, type ChargeSession, type SessionStep } from '../db/schema';
 import { lockPack } from '../packs';
 import { writeAudit, type AuditKind } from './audit';
 import { notifySession } from './notify';
@@ -120,7 +120,7 @@ async function withSession(
 async function markDone(tx: Tx, member: Member, s: ChargeSession, raised: AlertChanges[], note: Record<string, unknown> = {}) {
 	const now = new Date();
 	const session = await setStatus(tx, member, s, 'session.done', { status: 'done', endedAt: now, readingDueAt: null }, note);
-	raised.push(await compareEndedSession(tx, s.id, now));
+	raised.push(await compareEndedSessionSafely(tx, s.id, now));
 	return session;
 }
 
@@ -295,6 +295,39 @@ const groupWords = (step: Pick<SessionStep, 'groupId'>, index: Map<string, numbe
 	step.groupId ? `group ${index.get(step.groupId) ?? '?'}` : 'the whole pack';
 
 /** Writes a step's change, its audit event and the notice; ends the session when no step is left. */
+/**
+ * Ending a step answers its "step finished" note: the note clears and counts as acknowledged by
+ * the person who ended the step (nothing is left for the inbox to ask about), with its audit row.
+ */
+async function settleStepFinished(tx: Tx, member: Member, s: ChargeSession, step: SessionStep) {
+	const now = new Date();
+	const settled = await tx
+		.update(alerts)
+		.set({ clearedAt: sql`coalesce(${alerts.clearedAt}, ${now.toISOString()}::timestamptz)`, acknowledgedAt: now, acknowledgedBy: member.user.id, ackNote: 'Step ended.' })
+		.where(
+			and(
+				eq(alerts.sessionId, s.id),
+				eq(alerts.kind, 'step-finished'),
+				step.groupId === null ? isNull(alerts.groupId) : eq(alerts.groupId, step.groupId),
+				isNull(alerts.acknowledgedAt)
+			)
+		)
+		.returning({ id: alerts.id });
+	for (const { id } of settled) {
+		await writeAudit(tx, {
+			...actor(member),
+			kind: 'alert.acknowledge',
+			packId: s.packId,
+			sessionId: s.id,
+			subjectType: 'alert',
+			subjectId: id,
+			before: { acknowledgedAt: null },
+			after: { acknowledgedAt: now.toISOString(), note: 'Step ended.' }
+		});
+	}
+	if (settled.length) await notifySession(tx, { sessionId: s.id, workshopId: s.workshopId, kind: 'alert' });
+}
+
 async function changeStep(
 	tx: Tx,
 	member: Member,
@@ -317,6 +350,7 @@ async function changeStep(
 		after: { status: updated.status, actualStart: iso(updated.actualStart), actualEnd: iso(updated.actualEnd), position: step.position }
 	});
 	await notifySession(tx, { sessionId: s.id, workshopId: s.workshopId, kind: 'step' });
+	if (set.status !== 'running') await settleStepFinished(tx, member, s, step);
 	let session = s;
 	if (set.status !== 'running' && (await stepsLeft(tx, s.id)) === 0) {
 		session = await markDone(tx, member, s, raised, { lastStepId: step.id });
