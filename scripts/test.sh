@@ -3,6 +3,7 @@
 #
 #   bash scripts/test.sh              svelte-check, unit, integration, browser (e2e)
 #   bash scripts/test.sh unit|integration|e2e    one part only
+#   bash scripts/test.sh e2e tests/e2e/x.test.ts  browser tests of some files (Playwright arguments)
 #
 # Installs what is missing (npm packages, PostgreSQL, Debian's chromium when root), stops
 # everything it started, and ends with one line `N passed, N failed` summing all suites
@@ -228,7 +229,8 @@ run_e2e() {
 		return
 	fi
 	heading "browser tests (Playwright, chromium)"
-	E2E_BASE_URL="$E2E_URL" E2E_JSON_REPORT="$report" "$BIN/playwright" test </dev/null || code=$?
+	# Any further arguments (files, -g PATTERN) go to Playwright: `bash scripts/test.sh e2e tests/e2e/x.test.ts`.
+	E2E_BASE_URL="$E2E_URL" E2E_JSON_REPORT="$report" "$BIN/playwright" test "$@" </dev/null || code=$?
 	counts="$(count_report playwright "$report" "$code")"
 	record e2e "${counts% *}" "${counts#* }"
 	if [ "${counts#* }" != 0 ]; then
@@ -245,7 +247,7 @@ main() {
 	case "$part" in
 	all | unit | integration | e2e) ;;
 	*)
-		say "Usage: bash scripts/test.sh [unit|integration|e2e]"
+		say "Usage: bash scripts/test.sh [unit|integration|e2e [playwright arguments]]"
 		exit 2
 		;;
 	esac
@@ -266,7 +268,10 @@ main() {
 		;;
 	unit) run_unit ;;
 	integration) run_integration ;;
-	e2e) run_e2e ;;
+	e2e)
+		shift
+		run_e2e "$@"
+		;;
 	esac
 
 	cleanup
