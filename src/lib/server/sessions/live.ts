@@ -178,7 +178,7 @@ function frame(event: SessionEvent): string {
 
 /**
  * A `text/event-stream` response with the session's events (`reading`, `status`, `step`, `watch`,
- * `plan`) as they are committed, a heartbeat comment every 25 s, ended when the client goes away.
+ * `plan`, `alert`) as they are committed, a heartbeat comment every 25 s, ended when the client goes away.
  */
 export async function sessionEventStream(sessionId: string, signal: AbortSignal): Promise<Response> {
 	try {
