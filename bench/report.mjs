@@ -103,7 +103,7 @@ inserts are not bound by the disk.${
 	http && Math.max(http.loadAverageAtStart[0], http.loadAverageAtEnd?.[0] ?? 0) > cpus.length
 		? `
 
-**This run shared the machine:** the load average (${fmt(http.loadAverageAtStart[0], 1)} at the start) was above its ${cpus.length} cores, so other programs (builds, type checks, browser tests) held the CPU for much of it. Wall times and request rates are inflated by that; the ratios, measured side by side, less so. Even the CPU time per call rises on a busy virtual machine (shared caches, time taken by the host), so the engine figures of such a run are upper bounds of its cost.`
+**This run shared the machine:** the load average (${fmt(http.loadAverageAtStart[0], 1)} at the start of the HTTP part, ${fmt(http.loadAverageAtEnd?.[0], 1)} at its end) was above its ${cpus.length} cores, so other programs (builds, type checks, browser tests) held the CPU for much of it. Wall times and request rates are inflated by that; the ratios, measured side by side, less so. Even the CPU time per call rises on a busy virtual machine (shared caches, time taken by the host), so the engine figures of such a run are upper bounds of its cost.`
 		: ''
 }`);
 sections.push(`## Against the targets\n\n${table(['measure', 'figure', 'reference (same run)', 'ratio', 'target', ''], rows)}${
