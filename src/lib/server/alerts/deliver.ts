@@ -17,7 +17,7 @@ import { db } from '../db';
 import { alertDeliveries, alerts, chargeSessions, packs, pushSubscriptions, users, workshops } from '../db/schema';
 import type { DeliveryAttempt } from '../db/schema';
 import { publicOrigin } from '../env';
-import { enqueue, ensureQueue } from '../jobs/boss';
+import { enqueue, ensureQueue, wakeWorkers } from '../jobs/boss';
 import { sendMail } from '../mail';
 import { sendPush } from '../push';
 import { alertMail, alertPush, type AlertForMessage } from './alert-mail';
@@ -27,8 +27,10 @@ import { CLOCK_KINDS, evaluateClockInTx, queueDeliveries, escalationRecipients, 
 export const DELIVERY_RETRY = { retryLimit: 12, retryDelay: 2, retryBackoff: true } as const;
 /** The delivery queue's options: also given when this process creates the queue by sending to it. */
 export const DELIVERY_QUEUE_OPTIONS = { ...DELIVERY_RETRY, expireInSeconds: 120 };
-/** How often a worker asks for deliveries (pg-boss's least): an alert reaches people within about a second. */
+/** How often a worker asks for deliveries (pg-boss's least), when nothing woke it sooner. */
 export const DELIVERY_POLL_SECONDS = 0.5;
+/** Deliveries a worker takes at once and sends side by side: one alert's e-mails and pushes together. */
+export const DELIVERY_BATCH = 20;
 /** An unqueued pending row older than this is the crash's leftover, not one being dispatched now. */
 const SWEEP_AFTER_MS = 30_000;
 
@@ -41,6 +43,8 @@ export async function dispatchDeliveries(ids: readonly string[]): Promise<void> 
 	try {
 		await ensureQueue('deliver-alert', DELIVERY_QUEUE_OPTIONS);
 		for (const id of ids) await enqueue('deliver-alert', { deliveryId: id });
+		// This process's delivery worker, if it runs one, takes them now rather than at its next poll.
+		wakeWorkers('deliver-alert');
 		await db
 			.update(alertDeliveries)
 			.set({ queuedAt: new Date() })

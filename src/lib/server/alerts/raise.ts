@@ -11,17 +11,17 @@
  * the outbox. After the commit `dispatchDeliveries` hands them to pg-boss; rows a crash left
  * behind are picked up by the alert clock's sweep (deliver.ts). So nothing committed is lost.
  */
-import { and, asc, eq, inArray, isNull, lt, sql } from 'drizzle-orm';
+import { and, eq, inArray, isNull, lt, sql } from 'drizzle-orm';
 import { alertAction, alertTitle, alertUnit } from '$lib/alert-words';
 import { routeAlert } from '$lib/alert-routing';
-import { checkClock, reconcileAlerts, type AlertDraft, type Limits } from '$lib/engine';
+import { checkClock, reconcileAlerts, type ActiveAlert, type AlertDraft, type AlertSeverity, type Limits } from '$lib/engine';
 import type { Tx } from '../db';
-import { alertDeliveries, alerts, cellSpecs, chargeSessions, chemistryProfiles, packGroups, packs, sessionSteps } from '../db/schema';
+import { alertDeliveries, alerts, cellSpecs, chargeSessions, chemistryProfiles, packs } from '../db/schema';
 import type { DeliveryReason, StoredAlertKind } from '../db/schema';
 import { newId } from '../ids';
 import { chemistryOf } from '../sessions/plan-context';
 import { notifySession } from '../sessions/notify';
-import { evaluateRun, sessionLimits, type RunInput, type RunReading } from '../sessions/run-view';
+import { evaluateRun, sessionLimits, type RunInput, type RunReading, type RunStepInput } from '../sessions/run-view';
 import { sessionRecipients, workshopOwners, type Recipient } from './recipients';
 
 /** What a reading can raise or clear. */
@@ -53,8 +53,13 @@ export type SessionHead = {
  * whole pack, and the newest room temperature among the last 200 readings. A 100,000-reading
  * session costs a few index probes per group.
  */
-async function loadRunInput(tx: Tx, sessionId: string, now: Date): Promise<{ head: SessionHead; input: RunInput } | null> {
-	const [[row], groups, steps, rows] = await Promise.all([
+async function loadRunInput(
+	tx: Tx,
+	sessionId: string,
+	now: Date
+): Promise<{ head: SessionHead; input: RunInput; active: ActiveAlert[] } | null> {
+	// Two statements, side by side on the transaction's connection: this runs on every post.
+	const [[row], [rest]] = await Promise.all([
 		tx
 			.select({ session: chargeSessions, pack: packs, spec: cellSpecs, profile: chemistryProfiles })
 			.from(chargeSessions)
@@ -62,45 +67,60 @@ async function loadRunInput(tx: Tx, sessionId: string, now: Date): Promise<{ hea
 			.innerJoin(cellSpecs, eq(cellSpecs.id, packs.cellSpecId))
 			.leftJoin(chemistryProfiles, eq(chemistryProfiles.id, cellSpecs.chemistryProfileId))
 			.where(eq(chargeSessions.id, sessionId)),
-		tx
-			.select({ id: packGroups.id, index: packGroups.index })
-			.from(packGroups)
-			.innerJoin(chargeSessions, eq(chargeSessions.packId, packGroups.packId))
-			.where(eq(chargeSessions.id, sessionId))
-			.orderBy(asc(packGroups.index)),
-		tx.select().from(sessionSteps).where(eq(sessionSteps.sessionId, sessionId)).orderBy(asc(sessionSteps.position)),
 		tx.execute(sql`
-			select r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c
-			from charge_sessions s
-			join pack_groups g on g.pack_id = s.pack_id
-			cross join lateral (
-				select * from readings x where x.session_id = s.id and x.group_id = g.id order by x.taken_at desc, x.id desc limit 4
-			) r
-			where s.id = ${sessionId}
-			union all
-			(select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c from readings
-				where session_id = ${sessionId} and group_id is null order by taken_at desc, id desc limit 4)
-			union all
-			(select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c
-				from (select * from readings where session_id = ${sessionId} order by taken_at desc, id desc limit 200) recent
-				where ambient_c is not null order by taken_at desc, id desc limit 1)`)
+			select
+				(select coalesce(json_agg(json_build_array(g.id, g.index) order by g.index), '[]')
+					from pack_groups g join charge_sessions s on s.pack_id = g.pack_id where s.id = ${sessionId}) as groups,
+				(select coalesce(json_agg(json_build_object('id', st.id, 'position', st.position, 'groupId', st.group_id,
+						'channelId', st.channel_id, 'channelLabel', st.channel_label, 'role', st.role, 'setVolts', st.set_volts,
+						'amps', st.amps, 'ah', st.ah, 'expectedStart', st.expected_start, 'expectedEnd', st.expected_end,
+						'actualStart', st.actual_start, 'actualEnd', st.actual_end, 'status', st.status,
+						'restReadingDueAt', st.rest_reading_due_at) order by st.position), '[]')
+					from session_steps st where st.session_id = ${sessionId}) as steps,
+				(select coalesce(json_agg(json_build_array(a.id, a.kind, a.group_id, a.severity)), '[]')
+					from alerts a where a.session_id = ${sessionId} and a.cleared_at is null) as active,
+				(select coalesce(json_agg(json_build_array(r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c)), '[]')
+					from (
+						select x.* from charge_sessions s
+						join pack_groups g on g.pack_id = s.pack_id
+						cross join lateral (
+							select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc, y.id desc limit 4
+						) x
+						where s.id = ${sessionId}
+						union all
+						(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc, id desc limit 4)
+						union all
+						(select * from (select * from readings where session_id = ${sessionId} order by taken_at desc, id desc limit 200) recent
+							where ambient_c is not null order by taken_at desc, id desc limit 1)
+					) r) as readings`)
 	]);
 	if (!row) return null;
+	type Json = { groups: [string, number][]; steps: Record<string, unknown>[]; active: [string, string, string | null, AlertSeverity][]; readings: unknown[][] };
+	const data = rest as unknown as Json;
+	const date = (v: unknown) => (v === null || v === undefined ? null : new Date(v as string));
+	const groups = data.groups.map(([id, index]) => ({ id, index }));
+	const steps = data.steps.map((st) => ({
+		...(st as Omit<RunStepInput, 'expectedStart' | 'expectedEnd' | 'actualStart' | 'actualEnd' | 'restReadingDueAt'>),
+		expectedStart: date(st.expectedStart)!,
+		expectedEnd: date(st.expectedEnd)!,
+		actualStart: date(st.actualStart),
+		actualEnd: date(st.actualEnd),
+		restReadingDueAt: date(st.restReadingDueAt)
+	}));
 	const seen = new Set<number>();
 	const readings: RunReading[] = [];
-	for (const r of rows as unknown as Record<string, unknown>[]) {
-		const id = Number(r.id);
-		if (seen.has(id)) continue;
-		seen.add(id);
+	for (const [id, groupId, stepId, takenAt, volts, amps, tempC, ambientC] of data.readings) {
+		if (seen.has(Number(id))) continue;
+		seen.add(Number(id));
 		readings.push({
-			id,
-			groupId: (r.group_id as string | null) ?? null,
-			stepId: (r.step_id as string | null) ?? null,
-			takenAt: new Date(r.taken_at as string),
-			volts: r.volts as number | null,
-			amps: r.amps as number | null,
-			tempC: r.temp_c as number | null,
-			ambientC: r.ambient_c as number | null
+			id: Number(id),
+			groupId: (groupId as string | null) ?? null,
+			stepId: (stepId as string | null) ?? null,
+			takenAt: new Date(takenAt as string),
+			volts: volts as number | null,
+			amps: amps as number | null,
+			tempC: tempC as number | null,
+			ambientC: ambientC as number | null
 		});
 	}
 	const { session, pack, spec, profile } = row;
@@ -114,7 +134,8 @@ async function loadRunInput(tx: Tx, sessionId: string, now: Date): Promise<{ hea
 	};
 	return {
 		head: { id: session.id, workshopId: session.workshopId, packId: session.packId, status: session.status, limits: sessionLimits(input) },
-		input
+		input,
+		active: data.active.map(([id, kind, groupId, severity]) => ({ id, kind, groupId, severity }))
 	};
 }
 
@@ -132,8 +153,8 @@ async function activeAlerts(tx: Tx, sessionId: string) {
 export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new Date()): Promise<AlertChanges> {
 	const loaded = await loadRunInput(tx, sessionId, now);
 	if (!loaded || !loaded.head.limits) return none();
-	const { head, input } = loaded;
-	const { drafts } = evaluateRun(input);
+	const { head, input, active } = loaded;
+	const { drafts } = evaluateRun(input, { draftsOnly: true });
 	const idOfIndex = new Map(input.groups.map((g) => [String(g.index), g.id]));
 	const newestOf = (groupId: string | null) => {
 		let best: RunReading | null = null;
@@ -153,7 +174,7 @@ export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new 
 			readingId: newestOf(null)
 		}))
 	];
-	return storeConditions(tx, head, found, READING_KINDS, now);
+	return storeConditions(tx, head, found, READING_KINDS, now, active);
 }
 
 /**
@@ -186,7 +207,7 @@ export async function evaluateClockInTx(tx: Tx, sessionId: string, now = new Dat
 		}
 	}
 	const kinds = head.status === 'running' ? CLOCK_KINDS : ([...CLOCK_KINDS, 'step-finished'] as const);
-	return storeConditions(tx, head, found, kinds, now);
+	return storeConditions(tx, head, found, kinds, now, loaded.active);
 }
 
 /**
@@ -194,8 +215,16 @@ export async function evaluateClockInTx(tx: Tx, sessionId: string, now = new Dat
  * outcome: new alerts with their outbox rows for the session's watchers, cleared ones, and the
  * live views' notice. Any rule's evaluation ends here (readings, the clock, the drift between sessions).
  */
-export async function storeConditions(tx: Tx, head: SessionHead, found: Found[], kinds: readonly string[], now: Date): Promise<AlertChanges> {
-	const active = await activeAlerts(tx, head.id);
+export async function storeConditions(
+	tx: Tx,
+	head: SessionHead,
+	found: Found[],
+	kinds: readonly string[],
+	now: Date,
+	/** The session's active alerts, when the caller read them already (in this transaction). */
+	known?: ActiveAlert[]
+): Promise<AlertChanges> {
+	const active = known ?? (await activeAlerts(tx, head.id));
 	// The engine keys a condition by kind and group: give it the group's row id.
 	const plan = reconcileAlerts(
 		active,

@@ -2,12 +2,13 @@
  * The alerts' jobs: `deliver-alert` sends one outbox row (retried with backoff, see deliver.ts),
  * `alert-clock` runs every minute (re-queue what a crash left, escalate, the clock's rules).
  */
-import { deliverOne, DELIVERY_POLL_SECONDS, DELIVERY_QUEUE_OPTIONS, escalateAlerts, runAlertClock, sweepOutbox } from '../alerts/deliver';
+import { deliverOne, DELIVERY_BATCH, DELIVERY_POLL_SECONDS, DELIVERY_QUEUE_OPTIONS, escalateAlerts, runAlertClock, sweepOutbox } from '../alerts/deliver';
 import { defineJob } from './define';
 
 export const deliverAlertJob = defineJob<{ deliveryId: string }>({
 	options: DELIVERY_QUEUE_OPTIONS,
 	pollingIntervalSeconds: DELIVERY_POLL_SECONDS,
+	batchSize: DELIVERY_BATCH,
 	handle: ({ deliveryId }) => deliverOne(deliveryId)
 });
 

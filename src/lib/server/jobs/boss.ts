@@ -64,11 +64,31 @@ export async function enqueue<Q extends QueueName>(queue: Q, data: JobData<Q>): 
 	return id;
 }
 
+const workerSlot = globalThis as typeof globalThis & { __cellsitterWorkers?: Map<string, string[]> };
+
+/** Notes a worker this process runs for a queue (registry.ts), so that `wakeWorkers` can reach it. */
+export function registerWorker(queue: string, workerId: string): void {
+	const workers = (workerSlot.__cellsitterWorkers ??= new Map());
+	workers.set(queue, [...(workers.get(queue) ?? []), workerId]);
+}
+
+/**
+ * Wakes this process's workers of a queue now instead of at their next poll (a job just sent that
+ * should not wait, such as an alert's delivery). A process that only sends has none: a no-op.
+ */
+export function wakeWorkers(queue: string): void {
+	const held = slot.__cellsitterBoss;
+	const ids = workerSlot.__cellsitterWorkers?.get(queue);
+	if (!held || !ids?.length) return;
+	void held.started.then((boss) => ids.forEach((id) => boss.notifyWorker(id))).catch(() => {});
+}
+
 /** Stops the boss: waits up to `timeoutMs` for running jobs, then closes its pool. */
 export async function stopBoss(timeoutMs = 10_000): Promise<void> {
 	const held = slot.__cellsitterBoss;
 	if (!held) return;
 	slot.__cellsitterBoss = undefined;
+	workerSlot.__cellsitterWorkers = undefined;
 	const boss = await held.started.catch(() => null);
 	await boss?.stop({ graceful: true, wait: true, timeout: timeoutMs });
 }

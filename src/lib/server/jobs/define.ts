@@ -10,6 +10,11 @@ export type JobDefinition<T extends object> = {
 	schedule?: { cron: string; tz?: string; data?: T };
 	/** How often a worker asks for this queue's jobs (default 2 s; pg-boss allows 0.5 at least). */
 	pollingIntervalSeconds?: number;
+	/**
+	 * How many jobs a worker takes at once (default 1); they run side by side, and a failure of one
+	 * fails the batch, so a handler with a batch must be safe to run again after success.
+	 */
+	batchSize?: number;
 	handle: (data: T) => Promise<unknown>;
 };
 

@@ -6,7 +6,7 @@
  * (DEVELOPERS.md, "Background jobs"). The queue, its worker and its schedule follow from here.
  */
 import type PgBoss from 'pg-boss';
-import { ensureQueue, startBoss, stopBoss } from './boss';
+import { ensureQueue, registerWorker, startBoss, stopBoss } from './boss';
 import { alertClockJob, deliverAlertJob } from './alerts';
 import { closeFinishedSessionsJob } from './close-finished-sessions';
 import type { JobDefinition } from './define';
@@ -49,11 +49,17 @@ export async function prepareQueues(boss: PgBoss): Promise<void> {
 	}
 }
 
-/** Runs a handler over a batch pg-boss hands out; a throw fails the job (and pg-boss retries it). */
+/**
+ * Runs a handler over the batch pg-boss hands out, side by side; any failure fails the batch (and
+ * pg-boss retries its jobs), after every job of it has finished.
+ */
 function worker(queue: QueueName) {
 	const { handle } = definitionOf(queue);
 	return async (jobs: PgBoss.Job<object>[]) => {
-		for (const job of jobs) await handle(job.data);
+		const outcomes = await Promise.allSettled(jobs.map((job) => handle(job.data)));
+		const failed = outcomes.filter((o): o is PromiseRejectedResult => o.status === 'rejected');
+		if (failed.length === 1) throw failed[0].reason;
+		if (failed.length > 1) throw new AggregateError(failed.map((f) => f.reason), `${failed.length} jobs of ${queue} failed`);
 	};
 }
 
@@ -66,8 +72,8 @@ async function start(role: JobsRole): Promise<PgBoss> {
 	await prepareQueues(boss);
 	if (role === 'work') {
 		for (const queue of queueNames) {
-			const pollingIntervalSeconds = definitionOf(queue).pollingIntervalSeconds ?? 2;
-			await boss.work(queue, { pollingIntervalSeconds }, worker(queue));
+			const { pollingIntervalSeconds = 2, batchSize = 1 } = definitionOf(queue);
+			registerWorker(queue, await boss.work(queue, { pollingIntervalSeconds, batchSize }, worker(queue)));
 		}
 	}
 	return boss;

@@ -181,7 +181,7 @@ function perCellSetVolts(step: RunStepInput, series: number): number | null {
 const iso = (d: Date | null) => (d ? d.toISOString() : null);
 
 export function buildRunView(input: RunInput): RunView {
-	return evaluateRun(input).view;
+	return evaluateRun(input).view!;
 }
 
 /**
@@ -192,7 +192,7 @@ export function buildRunView(input: RunInput): RunView {
  */
 export type RunDrafts = { groups: AlertDraft[]; pack: AlertDraft[] };
 
-export function evaluateRun(input: RunInput): { view: RunView; drafts: RunDrafts } {
+export function evaluateRun(input: RunInput, options: { draftsOnly?: boolean } = {}): { view: RunView | null; drafts: RunDrafts } {
 	const { session, pack, groups, steps, now } = input;
 	const nowMs = now.getTime();
 	const indexOf = new Map(groups.map((g) => [g.id, g.index]));
@@ -367,6 +367,9 @@ export function evaluateRun(input: RunInput): { view: RunView; drafts: RunDrafts
 			messages: packAlerts.map((a) => a.message.replace(/^Group pack/, 'The pack'))
 		};
 	}
+
+	// Judging a reading needs no more: the time to full (the engine's re-estimate) is for the screen.
+	if (options.draftsOnly) return { view: null, drafts: { groups: alerts, pack: packDrafts } };
 
 	// Time to full of each running charge step: the engine from its own readings, else the plan.
 	const timeToFull: TimeToFull[] = [];
