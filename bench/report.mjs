@@ -182,9 +182,12 @@ ${http.seed.groups} groups of the demo pack).
 "Kept" is a fetch with nothing new (the server's kept buckets answer); "right after a new reading"
 posts one reading through the readings API first, as a live viewer's refetch follows each reading,
 so the kept buckets are brought up to date from the new rows only. Ratios of medians: kept
-${fmt(s.ratio, 2)}×${s.ratioFresh !== undefined ? `, after a new reading ${fmt(s.ratioFresh, 2)}×` : ''} (target ≤ 1.5×). The
-100,000-reading answer is larger (every line has its full 600 points, the default; the short
-session's lines have fewer), which is most of what remains of the gap.`);
+${fmt(s.ratio, 2)}×${s.ratioFresh !== undefined ? `, after a new reading ${fmt(s.ratioFresh, 2)}×` : ''} (target ≤ 1.5×). A kept
+answer is kept as JSON text, so it costs the session lookup whatever the session's size. After a
+new reading only the lines of the reading's group (and the spread and room temperature) are
+downsampled and written again; the rest of the 100,000-reading answer is larger (every line has
+its full 600 points, the default; the short session's lines have fewer) and is pieced together
+from the kept text of each line.`);
 }
 if (http?.bundle) {
 	const b = http.bundle;
@@ -197,7 +200,15 @@ what they import dynamically (**with lazy chunks**); each file gzipped with zlib
 - at load: ${b.atLoad.files} files, ${fmt(b.atLoad.raw / 1000)} kB raw, **${fmt(b.atLoad.gzip / 1000)} kB gzip**
 - with lazy chunks: ${b.withLazy.files} files, ${fmt(b.withLazy.raw / 1000)} kB raw, **${fmt(b.withLazy.gzip / 1000)} kB gzip** (target ≤ 120 kB)
 
-Largest files (gzip): ${b.largest.map((f) => `\`${f.file}\` ${fmt(f.gzip / 1000)} kB${f.lazy ? ' (lazy)' : ''}`).join(', ')}.`);
+Largest files (gzip): ${b.largest.map((f) => `\`${f.file}\` ${fmt(f.gzip / 1000)} kB${f.lazy ? ' (lazy)' : ''}`).join(', ')}.
+
+What is in it: the lazy chunk is the charts — chart.js with only the line chart's parts registered
+(about 51 kB gzip of it is chart.js itself, its floor for a line chart on a time axis), our own
+zoned date adapter instead of chartjs-adapter-date-fns (which brought date-fns's whole parser and
+locale, about 12 kB gzip) and our own legend instead of chart.js's. Loaded at the start are the
+framework runtimes (Svelte, SvelteKit, TanStack Query: about 45 kB gzip together), the icons and
+the run screen's own code, with the alert screens (tile states, alarm, red strip) since alerts came in.
+Together with chart.js those runtimes already take most of the 120 kB target.`);
 }
 if (alerts?.mail && alerts?.push) {
 	const a = alerts;
