@@ -58,7 +58,9 @@ async function loadRunInput(
 	sessionId: string,
 	now: Date
 ): Promise<{ head: SessionHead; input: RunInput; active: ActiveAlert[] } | null> {
-	// Two statements, side by side on the transaction's connection: this runs on every post.
+	// Two statements, side by side on the transaction's connection: this runs on every post. The
+	// newest readings are read in index order (readings_session_group_taken_idx) with no tie-break
+	// on id: a logger sending many readings with one time stamp would make a tie-break sort them all.
 	const [[row], [rest]] = await Promise.all([
 		tx
 			.select({ session: chargeSessions, pack: packs, spec: cellSpecs, profile: chemistryProfiles })
@@ -84,14 +86,14 @@ async function loadRunInput(
 						select x.* from charge_sessions s
 						join pack_groups g on g.pack_id = s.pack_id
 						cross join lateral (
-							select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc, y.id desc limit 4
+							select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc limit 4
 						) x
 						where s.id = ${sessionId}
 						union all
-						(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc, id desc limit 4)
+						(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc limit 4)
 						union all
-						(select * from (select * from readings where session_id = ${sessionId} order by taken_at desc, id desc limit 200) recent
-							where ambient_c is not null order by taken_at desc, id desc limit 1)
+						(select * from (select * from readings where session_id = ${sessionId} order by taken_at desc limit 200) recent
+							where ambient_c is not null order by taken_at desc limit 1)
 					) r) as readings`)
 	]);
 	if (!row) return null;

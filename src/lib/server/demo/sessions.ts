@@ -541,7 +541,11 @@ function readingsOfRide(session: ChargeSession, steps: RunStep[], spec: PlanCont
 	own.volts = round(mean + GROUP_7_END_GAP);
 	const words = (v: number) => Math.round(Math.abs(v - mean) * 1000);
 	if (words(own.volts) !== Math.round(Math.abs(GROUP_7_END_GAP) * 1000)) own.volts = round(own.volts + 0.001);
-	return rows;
+	// The end readings are the step's last: an hourly round that happens to fall in its last minutes
+	// (the demo's times follow the clock) would otherwise be the one compared.
+	const endAt = Math.max(...ends.map((r) => r.takenAt.getTime()));
+	const inLastMinutes = (r: ReadingRow) => r.takenAt.getTime() >= endAt && r.takenAt.getTime() <= last.actualEnd!.getTime();
+	return rows.filter((r) => ends.includes(r) || !inLastMinutes(r));
 }
 
 /**

@@ -516,26 +516,47 @@ type ReadingRow = {
 /**
  * The readings the run screen needs, in one query: the newest two of each group (and of the whole
  * pack), also the newest two with volts and with a temperature — for the tiles, heat rise and rest
- * readings —, the newest room temperature, and every reading of the running steps for the
- * re-estimate. A 100,000-reading session reads a few hundred rows.
+ * readings —, the newest room temperature (among the last thousand readings), and every reading
+ * of the running steps for the re-estimate.
  */
 export async function loadRunReadings(sessionId: string, runningStepIds: string[]): Promise<RunReading[]> {
+	// Index lookups per group (readings_session_group_taken_idx), never a pass over the session:
+	// a 100,000-reading session reads a few dozen rows and its running steps' readings.
 	const rows = (await db.execute(sql`
-		select id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c
-		from (
-			select r.*,
-				row_number() over (partition by r.group_id order by r.taken_at desc, r.id desc) as rn,
-				row_number() over (partition by r.group_id, r.volts is null order by r.taken_at desc, r.id desc) as rv,
-				row_number() over (partition by r.group_id, r.temp_c is null order by r.taken_at desc, r.id desc) as rt,
-				row_number() over (partition by r.ambient_c is null order by r.taken_at desc, r.id desc) as ra
-			from readings r
-			where r.session_id = ${sessionId}
-		) x
-		where x.rn <= 2
-			or (x.volts is not null and x.rv <= 2)
-			or (x.temp_c is not null and x.rt <= 2)
-			or (x.ambient_c is not null and x.ra = 1)
-			or x.step_id = any(${sql.param(runningStepIds)}::text[])
+		with newest as (
+			select x.* from charge_sessions s
+			join pack_groups g on g.pack_id = s.pack_id
+			cross join lateral (
+				(select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc limit 2)
+				union all
+				(select * from readings y where y.session_id = s.id and y.group_id = g.id and y.volts is not null
+					order by y.taken_at desc limit 2)
+				union all
+				(select * from readings y where y.session_id = s.id and y.group_id = g.id and y.temp_c is not null
+					order by y.taken_at desc limit 2)
+			) x
+			where s.id = ${sessionId}
+			union all
+			(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc limit 2)
+			union all
+			(select * from readings where session_id = ${sessionId} and group_id is null and volts is not null
+				order by taken_at desc limit 2)
+			union all
+			(select * from readings where session_id = ${sessionId} and group_id is null and temp_c is not null
+				order by taken_at desc limit 2)
+		),
+		room as (
+			select * from (select * from readings where session_id = ${sessionId} order by taken_at desc limit 1000) recent
+			where ambient_c is not null order by taken_at desc limit 1
+		),
+		steps as (
+			select r.* from readings r
+			where r.session_id = ${sessionId} and r.step_id = any(${sql.param(runningStepIds)}::text[])
+				and r.taken_at >= (select min(actual_start) from session_steps where id = any(${sql.param(runningStepIds)}::text[]))
+		)
+		select distinct on (id) id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c
+		from (select * from newest union all select * from room union all select * from steps) all_rows
+		order by id
 	`)) as unknown as ReadingRow[];
 	return rows.map((r) => ({
 		id: Number(r.id),
