@@ -31,13 +31,16 @@ async function expectFullSafetyNote(page: Page) {
 	await expect(page.getByRole('complementary', { name: 'Safety', exact: true })).toHaveCount(0);
 }
 
-test('the landing page promises no unwatched charge and marks what is still being built', async ({ page }) => {
+test('the landing page promises no unwatched charge and says what works today', async ({ page }) => {
 	await page.goto('/');
 	const text = (await page.getByRole('main').innerText()).replace(/\s+/g, ' ');
 	expect(unwatchedChargeSentences(text)).toEqual([]);
 	expect(text).toMatch(/awake and present/);
+	// Every point works today (alerts came last); alerts never stand in for the person at the bench.
 	const alerts = page.getByRole('heading', { name: 'Alerts from the readings' }).locator('..');
-	await expect(alerts).toContainText('Being built');
+	await expect(alerts).toContainText('Ready now');
+	await expect(alerts).toContainText('never stand in for someone awake at the bench');
+	await expect(page.getByText('Being built')).toHaveCount(0);
 	await expect(page.getByRole('complementary', { name: 'Safety before charging' })).toBeVisible();
 });
 
