@@ -11,7 +11,8 @@
  * the outbox. After the commit `dispatchDeliveries` hands them to pg-boss; rows a crash left
  * behind are picked up by the alert clock's sweep (deliver.ts). So nothing committed is lost.
  */
-import { and, eq, inArray, isNull, lt, sql } from 'drizzle-orm';
+import { and, eq, getTableColumns, inArray, isNull, lt, sql } from 'drizzle-orm';
+import type { PgTable } from 'drizzle-orm/pg-core';
 import { alertAction, alertTitle, alertUnit } from '$lib/alert-words';
 import { routeAlert } from '$lib/alert-routing';
 import { checkClock, reconcileAlerts, type ActiveAlert, type AlertDraft, type AlertSeverity, type Limits } from '$lib/engine';
@@ -53,51 +54,68 @@ export type SessionHead = {
  * whole pack, and the newest room temperature among the last 200 readings. A 100,000-reading
  * session costs a few index probes per group.
  */
+/** A table's row from `to_jsonb(row)`: its columns by their TypeScript names, times as Dates. */
+function fromRow<T extends PgTable>(table: T, json: Record<string, unknown>): T['$inferSelect'] {
+	const out: Record<string, unknown> = {};
+	for (const [key, column] of Object.entries(getTableColumns(table))) {
+		const value = json[column.name];
+		out[key] = value === null || value === undefined ? null : column.columnType === 'PgTimestamp' ? new Date(value as string) : value;
+	}
+	return out as T['$inferSelect'];
+}
+
 async function loadRunInput(
 	tx: Tx,
 	sessionId: string,
 	now: Date
 ): Promise<{ head: SessionHead; input: RunInput; active: ActiveAlert[] } | null> {
-	// Two statements, side by side on the transaction's connection: this runs on every post. The
-	// newest readings are read in index order (readings_session_group_taken_idx) with no tie-break
-	// on id: a logger sending many readings with one time stamp would make a tie-break sort them all.
-	const [[row], [rest]] = await Promise.all([
-		tx
-			.select({ session: chargeSessions, pack: packs, spec: cellSpecs, profile: chemistryProfiles })
-			.from(chargeSessions)
-			.innerJoin(packs, eq(packs.id, chargeSessions.packId))
-			.innerJoin(cellSpecs, eq(cellSpecs.id, packs.cellSpecId))
-			.leftJoin(chemistryProfiles, eq(chemistryProfiles.id, cellSpecs.chemistryProfileId))
-			.where(eq(chargeSessions.id, sessionId)),
-		tx.execute(sql`
-			select
-				(select coalesce(json_agg(json_build_array(g.id, g.index) order by g.index), '[]')
-					from pack_groups g join charge_sessions s on s.pack_id = g.pack_id where s.id = ${sessionId}) as groups,
-				(select coalesce(json_agg(json_build_object('id', st.id, 'position', st.position, 'groupId', st.group_id,
-						'channelId', st.channel_id, 'channelLabel', st.channel_label, 'role', st.role, 'setVolts', st.set_volts,
-						'amps', st.amps, 'ah', st.ah, 'expectedStart', st.expected_start, 'expectedEnd', st.expected_end,
-						'actualStart', st.actual_start, 'actualEnd', st.actual_end, 'status', st.status,
-						'restReadingDueAt', st.rest_reading_due_at) order by st.position), '[]')
-					from session_steps st where st.session_id = ${sessionId}) as steps,
-				(select coalesce(json_agg(json_build_array(a.id, a.kind, a.group_id, a.severity)), '[]')
-					from alerts a where a.session_id = ${sessionId} and a.cleared_at is null) as active,
-				(select coalesce(json_agg(json_build_array(r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c)), '[]')
-					from (
-						select x.* from charge_sessions s
-						join pack_groups g on g.pack_id = s.pack_id
-						cross join lateral (
-							select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc limit 4
-						) x
-						where s.id = ${sessionId}
-						union all
-						(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc limit 4)
-						union all
-						(select * from (select * from readings where session_id = ${sessionId} order by taken_at desc limit 200) recent
-							where ambient_c is not null order by taken_at desc limit 1)
-					) r) as readings`)
-	]);
-	if (!row) return null;
-	type Json = { groups: [string, number][]; steps: Record<string, unknown>[]; active: [string, string, string | null, AlertSeverity][]; readings: unknown[][] };
+	// One statement: this runs on every post. The newest readings are read in index order
+	// (readings_session_group_taken_idx) with no tie-break on id: a logger sending many readings
+	// with one time stamp would make a tie-break sort them all. The session, pack, cell spec and
+	// chemistry profile come as JSON rows, read back through the tables' own column lists.
+	const [rest] = await tx.execute(sql`
+		select
+			to_jsonb(s) as session, to_jsonb(p) as pack, to_jsonb(c) as spec, to_jsonb(cp) as profile,
+			(select coalesce(json_agg(json_build_array(g.id, g.index) order by g.index), '[]')
+				from pack_groups g join charge_sessions s on s.pack_id = g.pack_id where s.id = ${sessionId}) as groups,
+			(select coalesce(json_agg(json_build_object('id', st.id, 'position', st.position, 'groupId', st.group_id,
+					'channelId', st.channel_id, 'channelLabel', st.channel_label, 'role', st.role, 'setVolts', st.set_volts,
+					'amps', st.amps, 'ah', st.ah, 'expectedStart', st.expected_start, 'expectedEnd', st.expected_end,
+					'actualStart', st.actual_start, 'actualEnd', st.actual_end, 'status', st.status,
+					'restReadingDueAt', st.rest_reading_due_at) order by st.position), '[]')
+				from session_steps st where st.session_id = ${sessionId}) as steps,
+			(select coalesce(json_agg(json_build_array(a.id, a.kind, a.group_id, a.severity)), '[]')
+				from alerts a where a.session_id = ${sessionId} and a.cleared_at is null) as active,
+			(select coalesce(json_agg(json_build_array(r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c)), '[]')
+				from (
+					select x.* from charge_sessions s
+					join pack_groups g on g.pack_id = s.pack_id
+					cross join lateral (
+						select * from readings y where y.session_id = s.id and y.group_id = g.id order by y.taken_at desc limit 4
+					) x
+					where s.id = ${sessionId}
+					union all
+					(select * from readings where session_id = ${sessionId} and group_id is null order by taken_at desc limit 4)
+					union all
+					(select * from (select * from readings where session_id = ${sessionId} order by taken_at desc limit 200) recent
+						where ambient_c is not null order by taken_at desc limit 1)
+				) r) as readings
+		from charge_sessions s
+		join packs p on p.id = s.pack_id
+		join cell_specs c on c.id = p.cell_spec_id
+		left join chemistry_profiles cp on cp.id = c.chemistry_profile_id
+		where s.id = ${sessionId}`);
+	if (!rest) return null;
+	type Json = {
+		session: Record<string, unknown>;
+		pack: Record<string, unknown>;
+		spec: Record<string, unknown>;
+		profile: Record<string, unknown> | null;
+		groups: [string, number][];
+		steps: Record<string, unknown>[];
+		active: [string, string, string | null, AlertSeverity][];
+		readings: unknown[][];
+	};
 	const data = rest as unknown as Json;
 	const date = (v: unknown) => (v === null || v === undefined ? null : new Date(v as string));
 	const groups = data.groups.map(([id, index]) => ({ id, index }));
@@ -125,7 +143,10 @@ async function loadRunInput(
 			ambientC: ambientC as number | null
 		});
 	}
-	const { session, pack, spec, profile } = row;
+	const session = fromRow(chargeSessions, data.session);
+	const pack = fromRow(packs, data.pack);
+	const spec = fromRow(cellSpecs, data.spec);
+	const profile = data.profile ? fromRow(chemistryProfiles, data.profile) : null;
 	const input: RunInput = {
 		session,
 		pack: { series: pack.series, parallel: pack.parallel, chemistry: chemistryOf(spec, profile), cellCapacityAh: spec.capacityAh },
