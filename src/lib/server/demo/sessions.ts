@@ -18,6 +18,7 @@ import { db, type Tx } from '../db';
 import { compareEndedSession } from '../alerts/session-drift';
 import { alertDeliveries, alerts, auditEvents, chargeSessions, packs, users, type ChargeSession, type Reading, type SessionStep } from '../db/schema';
 import { createSession, loadPlanContext, REST_HOURS_AFTER_CHARGE, type PlanContext } from '../sessions/core';
+import { writeAudit } from '../sessions/audit';
 import { seeded } from './packs';
 
 const MINUTE = 60_000;
@@ -535,9 +536,16 @@ function readingsOfRide(session: ChargeSession, steps: RunStep[], spec: PlanCont
 	const own = ends.find((r) => r.groupId === seven?.id);
 	const others = ends.filter((r) => r !== own);
 	if (!own || others.length === 0) throw new Error('demo: no end readings of the ride');
-	const mean = others.reduce((sum, r) => sum + r.volts!, 0) / others.length;
-	// To the millivolt, as a meter shows it; the gap then words as 40 mV (39.5–40.5).
 	const round = (v: number) => Math.round(v * 1000) / 1000;
+	const meanOf = () => others.reduce((sum, r) => sum + r.volts!, 0) / others.length;
+	let mean = meanOf();
+	// A mean that ends in half a millivolt puts every gap to a whole-millivolt reading on x.5 mV,
+	// which rounds either way with the order of the sum: one other group reads 1 mV lower then.
+	if (Math.abs(((mean * 1000) % 1) - 0.5) < 0.05) {
+		others[0].volts = round(others[0].volts! - 0.001);
+		mean = meanOf();
+	}
+	// To the millivolt, as a meter shows it; the gap then words as 40 mV (39.5–40.5).
 	own.volts = round(mean + GROUP_7_END_GAP);
 	const words = (v: number) => Math.round(Math.abs(v - mean) * 1000);
 	if (words(own.volts) !== Math.round(Math.abs(GROUP_7_END_GAP) * 1000)) own.volts = round(own.volts + 0.001);
@@ -567,7 +575,7 @@ async function raiseTrikeDrift(tx: Tx, session: ChargeSession, technician: Membe
 		.where(and(eq(alertDeliveries.alertId, alertId), eq(alertDeliveries.status, 'pending')));
 	const ackAt = new Date(ended.getTime() + 38 * MINUTE);
 	await tx.update(alerts).set({ acknowledgedAt: ackAt, acknowledgedBy: technician.user.id, ackNote: DRIFT_ACK_NOTE }).where(eq(alerts.id, alertId));
-	await tx.insert(auditEvents).values({
+	await writeAudit(tx, {
 		workshopId: session.workshopId,
 		actorId: technician.user.id,
 		actorLabel: technician.user.name,
