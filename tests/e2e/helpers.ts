@@ -41,17 +41,22 @@ export async function linkFromMailbox(page: Page, to: string, path: string): Pro
 	return (await link.getAttribute('href'))!;
 }
 
-/** A 4S1P NMC pack with its cells placed, a one-channel bench supply and a planned session, over the JSON API. */
-export async function plannedSession(page: Page, slug: string): Promise<string> {
+/** A cell spec through its form: an NMC 21700 of 4 Ah, 4 A charge, 15 A continuous, 30 A burst (invented). */
+export async function newNmc21700(page: Page, slug: string, name: string) {
 	await page.goto(`/w/${slug}/cell-specs/new`);
-	await page.getByLabel('Name').fill('Run 21700');
+	await page.getByLabel('Name').fill(name);
 	await page.getByLabel('Chemistry').selectOption('builtin:nmc');
 	await page.getByLabel('Capacity (Ah)').fill('4');
 	await page.getByLabel('Max charge current (A)').fill('4');
 	await page.getByLabel('Max continuous discharge (A)').fill('15');
 	await page.getByLabel('Max burst discharge (A)').fill('30');
 	await page.getByRole('button', { name: 'Save cell spec' }).click();
-	await expect(page.getByRole('cell', { name: 'Run 21700' })).toBeVisible();
+	await expect(page.getByRole('cell', { name })).toBeVisible();
+}
+
+/** A 4S1P NMC pack with its cells placed, a one-channel bench supply and a planned session, over the JSON API. */
+export async function plannedSession(page: Page, slug: string): Promise<string> {
+	await newNmc21700(page, slug, 'Run 21700');
 
 	await page.goto(`/w/${slug}/packs/new`);
 	await page.getByLabel('Pack name').fill('Run trial');

@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { signUp, uniqueEmail } from './helpers';
+import { newNmc21700, signUp, uniqueEmail } from './helpers';
 
 // Invented arrival measurements: eight cells in pairs that sum to 8.00 Ah, one that came in 300 mV
 // below the others (suspect, not rejected: it is above NMC's 2.50 V minimum — BU-216), and one
@@ -21,15 +21,7 @@ const csv = [
 test('a builder records a 4S2P pack, inspects its cells from a CSV and matches them', async ({ page }) => {
 	const slug = await signUp(page, { name: 'Bea Builder', email: uniqueEmail('builder'), workshop: 'Bea Bench' });
 
-	await page.goto(`/w/${slug}/cell-specs/new`);
-	await page.getByLabel('Name').fill('Test 21700');
-	await page.getByLabel('Chemistry').selectOption('builtin:nmc');
-	await page.getByLabel('Capacity (Ah)').fill('4');
-	await page.getByLabel('Max charge current (A)').fill('4');
-	await page.getByLabel('Max continuous discharge (A)').fill('15');
-	await page.getByLabel('Max burst discharge (A)').fill('30');
-	await page.getByRole('button', { name: 'Save cell spec' }).click();
-	await expect(page.getByRole('cell', { name: 'Test 21700' })).toBeVisible();
+	await newNmc21700(page, slug, 'Test 21700');
 
 	await page.goto(`/w/${slug}/packs/new`);
 	await page.getByLabel('Pack name').fill('Trial trike');

@@ -20,10 +20,10 @@ export function sessionSeriesQuery(workshop: string, sessionId: string, points =
 	};
 }
 
-/** The URL of the session's server-sent events (reading, status, step, watch, plan). */
+/** The URL of the session's server-sent events (reading, status, step, watch, plan, alert). */
 export function sessionEventsUrl(workshop: string, sessionId: string): string {
 	return `${api(workshop, sessionId)}/events`;
 }
 
-export type SessionEventKind = 'reading' | 'status' | 'step' | 'watch' | 'plan';
-export const sessionEventKinds: SessionEventKind[] = ['reading', 'status', 'step', 'watch', 'plan'];
+export type SessionEventKind = 'reading' | 'status' | 'step' | 'watch' | 'plan' | 'alert';
+export const sessionEventKinds: SessionEventKind[] = ['reading', 'status', 'step', 'watch', 'plan', 'alert'];

@@ -21,7 +21,8 @@ import { enqueue, ensureQueue, wakeWorkers } from '../jobs/boss';
 import { sendMail } from '../mail';
 import { sendPush } from '../push';
 import { alertMail, alertPush, type AlertForMessage } from './alert-mail';
-import { CLOCK_KINDS, evaluateClockInTx, queueDeliveries, escalationRecipients, type AlertChanges } from './raise';
+import { CLOCK_KINDS, evaluateClockInTx, queueDeliveries, type AlertChanges } from './raise';
+import { workshopOwners } from './recipients';
 
 /** pg-boss retries of a delivery: 12 after the first, 2 s doubling (with jitter) — about 2¼ hours in all. */
 export const DELIVERY_RETRY = { retryLimit: 12, retryDelay: 2, retryBackoff: true } as const;
@@ -201,7 +202,8 @@ export async function escalateAlerts(now = new Date()): Promise<string[]> {
 				.for('update', { of: alerts });
 			if (!a || !escalationDue(a.alert, a.escalationMinutes, now)) return null;
 			await tx.update(alerts).set({ escalatedAt: now }).where(eq(alerts.id, id));
-			const owners = await escalationRecipients(tx, a.alert.workshopId);
+			// Every owner; quiet time never holds back a critical alert (alert-routing.ts).
+			const owners = await workshopOwners(tx, a.alert.workshopId);
 			return queueDeliveries(tx, a.alert, owners.map((person) => ({ person, reason: 'escalation' as const })), a.timeZone, now);
 		});
 		if (deliveries === null) continue;

@@ -23,7 +23,7 @@ import { newId } from '../ids';
 import { chemistryOf } from '../sessions/plan-context';
 import { notifySession } from '../sessions/notify';
 import { evaluateRun, sessionLimits, type RunInput, type RunReading, type RunStepInput } from '../sessions/run-view';
-import { sessionRecipients, workshopOwners, type Recipient } from './recipients';
+import { sessionRecipients, type Recipient } from './recipients';
 
 /** What a reading can raise or clear. */
 export const READING_KINDS = ['over-voltage', 'under-voltage', 'over-temperature', 'cold-charge', 'heat-rise', 'drift', 'step-finished'] as const;
@@ -351,9 +351,4 @@ export async function queueDeliveries(
 		.onConflictDoNothing()
 		.returning({ id: alertDeliveries.id, status: alertDeliveries.status });
 	return inserted.filter((r) => r.status === 'pending').map((r) => r.id);
-}
-
-/** Escalation's recipients: every owner of the workshop (quiet time never holds a critical alert). */
-export async function escalationRecipients(tx: Tx, workshopId: string): Promise<Recipient[]> {
-	return workshopOwners(tx, workshopId);
 }

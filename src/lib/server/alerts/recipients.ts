@@ -14,7 +14,8 @@ import { and, eq, or, sql, type SQL } from 'drizzle-orm';
 import { can, type Role } from '$lib/permissions';
 import { requirePermission, type Member } from '../auth/permissions';
 import { db, type Db, type Tx } from '../db';
-import { auditEvents, chargeSessions, memberships, packs, sessionWatchers, users, workshops } from '../db/schema';
+import { chargeSessions, memberships, packs, sessionWatchers, users, workshops } from '../db/schema';
+import { writeAudit } from '../sessions/audit';
 import { conflict, invalid, notFound, type SessionFailure } from '../sessions/results';
 
 export type WatchReason = 'owner' | 'planner' | 'on-watch' | 'pack-owner' | 'added';
@@ -243,8 +244,7 @@ export async function setWatcher(member: Member, sessionId: string, userId: stri
 		}
 		const watchers = await watchersOf(tx, member, sessionId);
 		const isWatching = watchers.some((w) => w.userId === userId);
-		// The audit kinds of sessions/audit.ts are the sessions' own; this one is written here.
-		await tx.insert(auditEvents).values({
+		await writeAudit(tx, {
 			workshopId: member.workshop.id,
 			actorId: member.user.id,
 			actorLabel: member.user.name,

@@ -21,7 +21,8 @@ export type AuditKind =
 	| 'device-token.issue'
 	| 'device-token.revoke'
 	| 'logger-mapping.update'
-	| 'alert.acknowledge';
+	| 'alert.acknowledge'
+	| 'watchers.change';
 
 export type AuditEntry = {
 	workshopId: string;
