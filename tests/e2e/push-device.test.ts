@@ -8,6 +8,9 @@ import { serviceWorkerPush, signUp, turnOnPush, uniqueEmail } from './helpers';
 // keys, storage — is real.
 test.use({ viewport: { width: 390, height: 844 } });
 
+/** A push the service worker handles may wait for the worker to start again: seconds on a busy machine. */
+const SHOWN_MS = 15_000;
+
 /** Width and height from a PNG's IHDR chunk (PNG spec, 11.2.2: bytes 16–23, big-endian). */
 function pngSize(bytes: Buffer): { width: number; height: number } {
 	expect(bytes.subarray(1, 4).toString('latin1')).toBe('PNG');
@@ -74,7 +77,7 @@ test('a person turns push alerts on for this phone and off again; the service wo
 			severity: 'critical'
 		})
 	);
-	await expect.poll(() => shown('alert-e2e-critical')).toEqual([
+	await expect.poll(() => shown('alert-e2e-critical'), { timeout: SHOWN_MS }).toEqual([
 		{
 			title: 'Group 3 is at 4.31 V',
 			body: 'Over the 4.25 V limit. Disconnect the charger from group 3.',
@@ -84,9 +87,9 @@ test('a person turns push alerts on for this phone and off again; the service wo
 	]);
 	// A payload it cannot read still shows a plain notification, and a link to another site is not kept.
 	await push('not json');
-	await expect.poll(async () => (await shown('cellsitter-alert')).map((n) => n.title)).toEqual(['Cellsitter alert']);
+	await expect.poll(async () => (await shown('cellsitter-alert')).map((n) => n.title), { timeout: SHOWN_MS }).toEqual(['Cellsitter alert']);
 	await push(JSON.stringify({ title: 'Elsewhere', body: 'b', url: 'https://example.org/x', tag: 'alert-e2e-away', severity: 'info' }));
-	await expect.poll(() => shown('alert-e2e-away')).toEqual([
+	await expect.poll(() => shown('alert-e2e-away'), { timeout: SHOWN_MS }).toEqual([
 		{ title: 'Elsewhere', body: 'b', data: { url: `${new URL(baseURL!).origin}/` }, requireInteraction: false }
 	]);
 
