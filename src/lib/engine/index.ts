@@ -30,6 +30,7 @@ export { planOneAtATime, type OneAtATimeInput } from './plan-one';
 export { planChannels, type ChannelsInput, type ChannelsPlan } from './plan-channels';
 export { PACK_STEP_ID, planBulk, type BulkInput, type BulkPlan, type GroupAtStop } from './plan-bulk';
 export { planBleed, type BleedInput, type BleedPlan, type BleedStep } from './plan-bleed';
+export { equipmentWhatIf, type EquipmentWhatIf, type WhatIfAlternative, type WhatIfInput, type WhatIfOutcome } from './what-if';
 export {
 	checkClock,
 	defaultLimits,
