@@ -202,7 +202,7 @@ export function windowsFor(
 	return { ok: true, windows: windows.length === 0 ? null : windows };
 }
 
-function channelOf(c: PlanChannel): Channel & { id: string } {
+export function channelOf(c: PlanChannel): Channel & { id: string } {
 	return { id: c.id, maxAmps: c.maxAmps, maxVolts: c.maxVolts, ...(c.maxWatts ? { maxWatts: c.maxWatts } : {}) };
 }
 
@@ -238,6 +238,26 @@ export function unattendedSpans(step: PlannedStep, windows: HandsOnWindow[] | nu
 /** Engine group ids are the group numbers ("7"), so the engine's own warnings read "Group 7". */
 const engineId = (index: number) => String(index);
 
+/** The pack's groups as the engine plans them (ids are the group numbers), from their rest volts. */
+export function planGroupsFor(pack: PlanPack, startVolts: Record<string, number>): PlanGroup[] | SessionPlanFailure {
+	const groupCapacity = pack.parallel * pack.cellCapacityAh;
+	const planGroups: PlanGroup[] = [];
+	for (const g of [...pack.groups].sort((a, b) => a.index - b.index)) {
+		const volts = startVolts[g.id];
+		if (volts === undefined || !Number.isFinite(volts)) {
+			return fail('missing-start-volts', `Group ${g.index} needs its rest voltage to plan from.`);
+		}
+		planGroups.push({
+			id: engineId(g.index),
+			capacityAh: groupCapacity,
+			startVolts: volts,
+			maxChargeAmps: pack.parallel * pack.cellMaxChargeAmps,
+			...(pack.cellResistanceMilliOhms ? { resistanceOhms: pack.cellResistanceMilliOhms / 1000 / pack.parallel } : {})
+		});
+	}
+	return planGroups;
+}
+
 /**
  * The plan for a session, or a failure in plain words. `chargers` are the workshop's (the top-up
  * channel may be on another charger than the pack charger).
@@ -255,21 +275,8 @@ export function computeSessionPlan(
 	const groups = [...pack.groups].sort((a, b) => a.index - b.index);
 	if (groups.length === 0) return fail('no-groups', 'The pack has no groups yet.');
 	const byIndex = new Map(groups.map((g) => [engineId(g.index), g]));
-	const groupCapacity = pack.parallel * pack.cellCapacityAh;
-	const planGroups: PlanGroup[] = [];
-	for (const g of groups) {
-		const volts = input.startVolts[g.id];
-		if (volts === undefined || !Number.isFinite(volts)) {
-			return fail('missing-start-volts', `Group ${g.index} needs its rest voltage to plan from.`);
-		}
-		planGroups.push({
-			id: engineId(g.index),
-			capacityAh: groupCapacity,
-			startVolts: volts,
-			maxChargeAmps: pack.parallel * pack.cellMaxChargeAmps,
-			...(pack.cellResistanceMilliOhms ? { resistanceOhms: pack.cellResistanceMilliOhms / 1000 / pack.parallel } : {})
-		});
-	}
+	const planGroups = planGroupsFor(pack, input.startVolts);
+	if (!Array.isArray(planGroups)) return planGroups;
 	const setVolts = setVoltsFor(chem, input.kind, input.target, input.targetVolts);
 	const limitsVolts = setVolts ?? chem.maxChargeVolts;
 	const limits = defaultLimits(chem, limitsVolts);
