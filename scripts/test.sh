@@ -3,7 +3,8 @@
 #
 #   bash scripts/test.sh              svelte-check, unit, integration, browser (e2e)
 #   bash scripts/test.sh unit|integration|e2e    one part only
-#   bash scripts/test.sh e2e tests/e2e/x.test.ts  browser tests of some files (Playwright arguments)
+#   bash scripts/test.sh e2e tests/e2e/x.test.ts  browser tests of some files (Playwright arguments;
+#                                                  a running test cluster is used and left running)
 #
 # Installs what is missing (npm packages, PostgreSQL, Debian's chromium when root), stops
 # everything it started, and ends with one line `N passed, N failed` summing all suites
@@ -124,7 +125,16 @@ ensure_chromium() {
 
 # A fresh throwaway cluster per run. One left over by an earlier, interrupted run in
 # this project (recorded under .data) is stopped and deleted first.
+# A run of some browser test files (`e2e <files>`) uses a test cluster already running
+# (`bash scripts/pg.sh up --test`) as it is and leaves it running, so integration tests run
+# beside it keep their database; every test makes its own accounts.
+REUSE_RUNNING_DB=
 start_test_database() {
+	if [ -n "$REUSE_RUNNING_DB" ] && bash scripts/pg.sh status --test >/dev/null 2>&1; then
+		say "Using the test database that is already running (and leaving it running)."
+		TEST_DATABASE_URL="$(bash scripts/pg.sh url --test)"
+		return 0
+	fi
 	if bash scripts/pg.sh status --test >/dev/null 2>&1; then
 		say "A test database from an earlier run is still running; replacing it with a fresh one."
 	fi
@@ -270,6 +280,7 @@ main() {
 	integration) run_integration ;;
 	e2e)
 		shift
+		if [ "$#" -gt 0 ]; then REUSE_RUNNING_DB=1; fi
 		run_e2e "$@"
 		;;
 	esac
