@@ -3,3 +3,4 @@ export * from './packs';
 export * from './chargers';
 export * from './sessions';
 export * from './alerts';
+export * from './voltage-checks';

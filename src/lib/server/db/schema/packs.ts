@@ -213,6 +213,8 @@ export const cells = pgTable(
 	(t) => [
 		// Labels differ regardless of case within a batch, as cellLabelKey says.
 		uniqueIndex('cells_pack_label_lower_key').on(t.packId, sql`lower(${t.label})`),
+		// Target of voltage_checks' same-pack key.
+		unique('cells_id_pack_key').on(t.id, t.packId),
 		index('cells_group_idx').on(t.groupId),
 		foreignKey({
 			name: 'cells_group_same_pack_fk',
