@@ -95,8 +95,9 @@ const guesses: [LoggerField, RegExp][] = [
 	['group', /^(group|grp|cell.?group|channel|ch|group.?index)\b/i],
 	['ambientC', /(ambient|room|air)/i],
 	['tempC', /(temp|°c|deg)/i],
-	['volts', /^(volts?|voltage|u|v)\b/i],
-	['amps', /^(amps?|current|i|a)\b/i],
+	// Not followed by a letter or digit, so that volts_V and amps_A (our own exports) match too.
+	['volts', /^(volts?|voltage|u|v)(?![a-z0-9])/i],
+	['amps', /^(amps?|current|i|a)(?![a-z0-9])/i],
 	['note', /^(note|comment|remark)/i]
 ];
 
