@@ -81,5 +81,5 @@ export {
 	type SessionDriftDraft,
 	type SessionSnapshot
 } from './compare-sessions';
-export { checkSelfDischarge, type ItemDischarge, type SelfDischarge, type SelfDischargeOptions, type VoltageCheckItem } from './self-discharge';
+export { checkSelfDischarge, SELF_DISCHARGE_DEFAULTS, type ItemDischarge, type SelfDischarge, type SelfDischargeOptions, type VoltageCheckItem } from './self-discharge';
 export { capacityFromRestStates, chargeResistance, chargesUntilFade, linearTrend, type CapacityInput, type CapacityFromRest, type CurrentStepReading, type FadePoint, type FadeProjection, type LinearTrend, type StepResistance, type StepResistanceOptions, type TrendPoint } from './health';

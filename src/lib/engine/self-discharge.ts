@@ -28,6 +28,9 @@ const MS_PER_DAY = 86_400_000;
 /** 1/Φ⁻¹(3/4): 1.4826 × MAD estimates σ of normally spread data (from memory). */
 export const MAD_TO_SIGMA = 1.4826;
 
+/** The defaults of SelfDischargeOptions (common practice, no published source). */
+export const SELF_DISCHARGE_DEFAULTS = { minItems: 5, minDays: 3, floorMvPerDay: 5, sigmas: 3, gainToleranceMv: 2 } as const;
+
 export interface VoltageCheckItem {
 	id: string;
 	/** As people say it: "T17", "group 7". */
@@ -85,11 +88,12 @@ export function median(values: number[]): number {
 
 /** Drop per day of each item and the items that stand out from the batch; failures in plain words. */
 export function checkSelfDischarge(items: VoltageCheckItem[], options: SelfDischargeOptions = {}): Result<SelfDischarge> {
-	const minItems = options.minItems ?? 5;
-	const minDays = options.minDays ?? 3;
-	const floor = options.floorMvPerDay ?? 5;
-	const sigmas = options.sigmas ?? 3;
-	const gainTolerance = options.gainToleranceMv ?? 2;
+	const d = SELF_DISCHARGE_DEFAULTS;
+	const minItems = options.minItems ?? d.minItems;
+	const minDays = options.minDays ?? d.minDays;
+	const floor = options.floorMvPerDay ?? d.floorMvPerDay;
+	const sigmas = options.sigmas ?? d.sigmas;
+	const gainTolerance = options.gainToleranceMv ?? d.gainToleranceMv;
 
 	if (items.length < minItems) {
 		return fail(
