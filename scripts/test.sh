@@ -125,13 +125,18 @@ ensure_chromium() {
 
 # A fresh throwaway cluster per run. One left over by an earlier, interrupted run in
 # this project (recorded under .data) is stopped and deleted first.
-# A run of some browser test files (`e2e <files>`) uses a test cluster already running
-# (`bash scripts/pg.sh up --test`) as it is and leaves it running, so integration tests run
-# beside it keep their database; every test makes its own accounts.
+# A run of some browser test files (`e2e <files>`) uses the test cluster as it is (starting it when
+# it is not running) and leaves it running, so integration tests run beside it keep their
+# database; every test makes its own accounts.
 REUSE_RUNNING_DB=
 start_test_database() {
-	if [ -n "$REUSE_RUNNING_DB" ] && bash scripts/pg.sh status --test >/dev/null 2>&1; then
-		say "Using the test database that is already running (and leaving it running)."
+	if [ -n "$REUSE_RUNNING_DB" ]; then
+		if bash scripts/pg.sh status --test >/dev/null 2>&1; then
+			say "Using the test database that is already running (and leaving it running)."
+		else
+			bash scripts/pg.sh up --test || return 1
+			say "The test database stays running after these tests: bash scripts/pg.sh down --test stops it."
+		fi
 		TEST_DATABASE_URL="$(bash scripts/pg.sh url --test)"
 		return 0
 	fi
