@@ -141,6 +141,59 @@ describe('alerts raised on readings', () => {
 		]);
 	});
 
+	it('posts that arrive together share judgements; each answer comes after a judgement that saw its reading', async () => {
+		const { owner, session, groups } = await sessionFixture();
+		const at = Date.now();
+		// Twelve posts at once; the eighth is 4.30 V on group 4 (act now above 4.25 V), the others are
+		// normal readings of groups 1 to 3.
+		const posts = Array.from({ length: 12 }, (_, i) =>
+			log(owner, session.id, [reading(i === 7 ? 4 : 1 + (i % 3), { volts: i === 7 ? 4.3 : 3.9 }, new Date(at + i * 1000))])
+		);
+		const overVoltage = async () => (await alertsOf(session.id)).filter((a) => a.kind === 'over-voltage');
+		const seenByItsPost = posts[7].then(async (r) => {
+			expect(r).toMatchObject({ ok: true, stored: 1 });
+			return overVoltage();
+		});
+		expect((await seenByItsPost).map((a) => [a.severity, a.value])).toEqual([['critical', 4.3]]);
+		expect((await Promise.all(posts)).every((r) => r.ok && r.stored === 1)).toBe(true);
+		const after = await overVoltage();
+		expect(after.map((a) => [a.groupId, a.clearedAt])).toEqual([[groups[3].id, null]]);
+	});
+
+	it('readings left unjudged (an instance stopped after the commit) are judged by the alert clock, and by a repeat post', async () => {
+		const { owner, session, pack, groups } = await sessionFixture();
+		const clientId = randomUUID();
+		await db.insert(readings).values({
+			sessionId: session.id,
+			packId: pack.id,
+			groupId: groups[2].id,
+			takenAt: new Date(),
+			volts: 4.3,
+			source: 'hand',
+			enteredBy: owner.user.id,
+			clientId
+		});
+		expect(await alertsOf(session.id)).toHaveLength(0);
+		// The client got no answer and sends the same reading again: stored once, judged now.
+		const again = readingInputSchema.parse({ clientId, groupIndex: 3, takenAt: new Date().toISOString(), volts: 4.3 });
+		expect(await log(owner, session.id, [again])).toMatchObject({ ok: true, stored: 0, duplicates: 1 });
+		expect((await alertsOf(session.id)).map((a) => a.kind)).toEqual(['over-voltage']);
+
+		const other = await sessionFixture();
+		await db.insert(readings).values({
+			sessionId: other.session.id,
+			packId: other.pack.id,
+			groupId: other.groups[1].id,
+			takenAt: new Date(),
+			volts: 4.3,
+			source: 'hand',
+			enteredBy: other.owner.user.id,
+			clientId: randomUUID()
+		});
+		await runAlertClock();
+		expect((await alertsOf(other.session.id)).map((a) => [a.kind, a.severity])).toEqual([['over-voltage', 'critical']]);
+	});
+
 	it('quiet time holds back an information alert for a watcher, not for the technician on watch, never a critical one', async () => {
 		const { owner, session, steps } = await sessionFixture();
 		const tech = await joinAs(owner, 'technician');

@@ -21,7 +21,7 @@ import { enqueue, ensureQueue, wakeWorkers } from '../jobs/boss';
 import { sendMail } from '../mail';
 import { sendPush } from '../push';
 import { alertMail, alertPush, type AlertForMessage } from './alert-mail';
-import { CLOCK_KINDS, evaluateClockInTx, queueDeliveries, type AlertChanges } from './raise';
+import { CLOCK_KINDS, evaluateClockInTx, evaluateReadingsInTx, queueDeliveries, type AlertChanges } from './raise';
 import { workshopOwners } from './recipients';
 
 /** pg-boss retries of a delivery: 12 after the first, 2 s doubling (with jitter) — about 2¼ hours in all. */
@@ -215,7 +215,9 @@ export async function escalateAlerts(now = new Date()): Promise<string[]> {
 
 /**
  * The clock's rules on every running session, and on sessions that ended with clock alerts still
- * active (which then clear). Each under the session's row lock.
+ * active (which then clear). Each under the session's row lock. A running session's readings are
+ * judged again too: readings whose post stopped between its commit and its judgement (judge.ts)
+ * are judged here within the minute.
  */
 export async function runAlertClock(now = new Date()): Promise<{ raised: number; cleared: number }> {
 	const sessions = await db
@@ -232,12 +234,19 @@ export async function runAlertClock(now = new Date()): Promise<{ raised: number;
 	let cleared = 0;
 	for (const { id } of sessions) {
 		const changes = await db.transaction(async (tx) => {
-			await tx.select({ id: chargeSessions.id }).from(chargeSessions).where(eq(chargeSessions.id, id)).for('update');
-			return evaluateClockInTx(tx, id, now);
+			const [row] = await tx
+				.select({ status: chargeSessions.status })
+				.from(chargeSessions)
+				.where(eq(chargeSessions.id, id))
+				.for('update');
+			const fromReadings = row?.status === 'running' ? [await evaluateReadingsInTx(tx, id, now)] : [];
+			return [...fromReadings, await evaluateClockInTx(tx, id, now)];
 		});
-		raised += changes.raised.length;
-		cleared += changes.cleared;
-		await afterCommit(changes);
+		for (const c of changes) {
+			raised += c.raised.length;
+			cleared += c.cleared;
+			await afterCommit(c);
+		}
 	}
 	return { raised, cleared };
 }

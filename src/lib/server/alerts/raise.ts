@@ -1,10 +1,12 @@
 /**
- * Raising alerts. Every stored reading is judged, in the transaction that stores it, by the same
- * rules as the run screen's tiles (run-view.ts `evaluateRun`, over the engine's evaluateReadings);
- * the clock job judges running sessions with the engine's checkClock. What was found is reconciled
- * with the session's active alerts (engine `reconcileAlerts`): a new condition, or one turned
- * louder, is inserted — the partial unique index on active alerts makes two app instances judging
- * one reading raise it once —, a condition gone is cleared, one still there is only marked seen.
+ * Raising alerts. Every stored reading is judged by the same rules as the run screen's tiles
+ * (run-view.ts `evaluateRun`, over the engine's evaluateReadings): a post's readings right after
+ * its commit, shared with the posts that arrive together (judge.ts), an edit or a file import in
+ * its own transaction. The clock job judges running sessions with the engine's checkClock, and
+ * their readings again. What was found is reconciled with the session's active alerts (engine
+ * `reconcileAlerts`): a new condition, or one turned louder, is inserted — judgements of a session
+ * take its row lock in turn, and the partial unique index on active alerts stands behind that —, a
+ * condition gone is cleared, one still there is only marked seen.
  *
  * Each new alert's deliveries (alert_deliveries: one row per person and channel, from the
  * session's watchers and their settings, alert-routing.ts) are written in the same transaction:
@@ -170,10 +172,14 @@ async function activeAlerts(tx: Tx, sessionId: string) {
 }
 
 /**
- * Judges the session's newest readings and raises, clears or keeps its reading alerts. Call it in
- * the transaction that stored the readings; dispatch `deliveries` after the commit.
+ * Judges the session's newest readings and raises, clears or keeps its reading alerts. Posts call it
+ * through judge.ts right after their commit; an edit or a file import calls it in the transaction
+ * that changed the readings. Dispatch `deliveries` after the commit.
  */
 export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new Date()): Promise<AlertChanges> {
+	// One judgement of a session at a time (in any instance): the next one waits and then sees what
+	// this one raised. The lock lets posts go on inserting (their key-share lock does not conflict).
+	await tx.execute(sql`select 1 from charge_sessions where id = ${sessionId} for no key update`);
 	const loaded = await loadRunInput(tx, sessionId, now);
 	if (!loaded || !loaded.head.limits) return none();
 	const { head, input, active } = loaded;

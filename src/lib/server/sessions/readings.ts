@@ -13,6 +13,7 @@ import { writeAudit } from './audit';
 import { notifySession, SESSION_EVENTS_CHANNEL } from './notify';
 import { afterCommit } from '../alerts/deliver';
 import { evaluateReadingsInTx, type AlertChanges } from '../alerts/raise';
+import { judgeSession } from '../alerts/judge';
 
 export type ReadingSource = 'hand' | 'file' | 'device';
 
@@ -167,62 +168,59 @@ export async function logReadings(
 	// row for update, waits for them — and they for it), the insert if the status allows it, the
 	// due mark cleared (only written when set), and the notice for live views — the same one
 	// notifySession sends, delivered at commit.
-	// The insert and the alerts it raises commit together (alerts/raise.ts); the alerts' outbox rows
-	// are handed to the delivery jobs after the commit.
-	const { result, changes } = await db.transaction(async (tx) => {
-		const [result] = (await tx.execute(sql`
-			with s as (select status from charge_sessions where id = ${sessionId} for key share),
-			ins as (
-					insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,
-						note, source, entered_by, device_token_id, client_id)
-					select distinct on (r.n) ${sessionId}, ${head.packId}, g.id, coalesce(gs.id, ps.id), r.taken_at, r.volts, r.amps,
-						r.temp_c, r.ambient_c, r.note, ${source}::reading_source, ${enteredBy}, ${tokenId}, r.client_id
-					-- Every column goes as text[] (postgres.js serialises text arrays whatever the element type).
-					from (select u.client_id, nullif(u.group_index, '')::int as group_index, u.taken_at::timestamptz as taken_at,
-						u.volts::float8 as volts, u.amps::float8 as amps, u.temp_c::float8 as temp_c,
-						u.ambient_c::float8 as ambient_c, u.note, u.n
-					from unnest(
-						${sql.param(inputs.map((r) => r.clientId))}::text[],
-						${sql.param(inputs.map((r) => String(r.groupIndex ?? '')))}::text[],
-						${sql.param(inputs.map((r) => r.takenAt))}::text[],
-						${sql.param(inputs.map((r) => numberText(r.volts)))}::text[],
-						${sql.param(inputs.map((r) => numberText(r.amps)))}::text[],
-						${sql.param(inputs.map((r) => numberText(r.tempC)))}::text[],
-						${sql.param(inputs.map((r) => numberText(r.ambientC)))}::text[],
-						${sql.param(inputs.map((r) => r.note ?? ''))}::text[]
-					) with ordinality as u(client_id, group_index, taken_at, volts, amps, temp_c, ambient_c, note, n)) r
-					cross join s
-					left join pack_groups g on g.pack_id = ${head.packId} and g.index = r.group_index
-					-- The step running at the reading's time: the group's own (equality join on the group, cheap
-					-- for 100,000 rows), else a whole-pack step (a session has a handful at most).
-					left join session_steps gs on gs.session_id = ${sessionId} and gs.group_id = g.id
-						and gs.actual_start <= r.taken_at and (gs.actual_end is null or gs.actual_end >= r.taken_at)
-					left join session_steps ps on ps.session_id = ${sessionId} and ps.group_id is null
-						and ps.actual_start <= r.taken_at and (ps.actual_end is null or ps.actual_end >= r.taken_at)
-					where s.status::text = any(${sql.param(allowed)}::text[])
-					order by r.n, gs.actual_start desc nulls last, ps.actual_start desc nulls last
-					on conflict (session_id, client_id) do nothing
-					returning client_id, id, taken_at),
-			due as (update charge_sessions set reading_due_at = null
-				where id = ${sessionId} and reading_due_at is not null and exists (select 1 from ins) returning 1)${markToken}
-			select (select status from s) as status,
-				coalesce((select json_agg(json_build_array(client_id, id)) from ins), '[]'::json) as stored,
-				(select pg_notify(${SESSION_EVENTS_CHANNEL}, json_build_object(
-						'sessionId', ${sessionId}::text, 'workshopId', ${head.workshopId}::text, 'kind', 'reading',
-						'count', x.n, 'newest', to_char(x.newest at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"'))::text)
-					from (select count(*) as n, max(taken_at) as newest from ins) x where x.n > 0) as notified`)) as unknown as {
-			status: ChargeSession['status'] | null;
-			stored: [string, number | string][];
-		}[];
-		// Nothing new stored (all duplicates, or refused): nothing new to judge.
-		const changes = result && result.stored.length > 0 ? await evaluateReadingsInTx(tx, sessionId) : null;
-		return { result, changes };
-	});
-	await afterCommit(changes);
+	// The readings are judged right after the commit (alerts/judge.ts), once for all the posts of
+	// the session that arrive together.
+	const [result] = (await db.execute(sql`
+		with s as (select status from charge_sessions where id = ${sessionId} for key share),
+		ins as (
+				insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,
+					note, source, entered_by, device_token_id, client_id)
+				select distinct on (r.n) ${sessionId}, ${head.packId}, g.id, coalesce(gs.id, ps.id), r.taken_at, r.volts, r.amps,
+					r.temp_c, r.ambient_c, r.note, ${source}::reading_source, ${enteredBy}, ${tokenId}, r.client_id
+				-- Every column goes as text[] (postgres.js serialises text arrays whatever the element type).
+				from (select u.client_id, nullif(u.group_index, '')::int as group_index, u.taken_at::timestamptz as taken_at,
+					u.volts::float8 as volts, u.amps::float8 as amps, u.temp_c::float8 as temp_c,
+					u.ambient_c::float8 as ambient_c, u.note, u.n
+				from unnest(
+					${sql.param(inputs.map((r) => r.clientId))}::text[],
+					${sql.param(inputs.map((r) => String(r.groupIndex ?? '')))}::text[],
+					${sql.param(inputs.map((r) => r.takenAt))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.volts)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.amps)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.tempC)))}::text[],
+					${sql.param(inputs.map((r) => numberText(r.ambientC)))}::text[],
+					${sql.param(inputs.map((r) => r.note ?? ''))}::text[]
+				) with ordinality as u(client_id, group_index, taken_at, volts, amps, temp_c, ambient_c, note, n)) r
+				cross join s
+				left join pack_groups g on g.pack_id = ${head.packId} and g.index = r.group_index
+				-- The step running at the reading's time: the group's own (equality join on the group, cheap
+				-- for 100,000 rows), else a whole-pack step (a session has a handful at most).
+				left join session_steps gs on gs.session_id = ${sessionId} and gs.group_id = g.id
+					and gs.actual_start <= r.taken_at and (gs.actual_end is null or gs.actual_end >= r.taken_at)
+				left join session_steps ps on ps.session_id = ${sessionId} and ps.group_id is null
+					and ps.actual_start <= r.taken_at and (ps.actual_end is null or ps.actual_end >= r.taken_at)
+				where s.status::text = any(${sql.param(allowed)}::text[])
+				order by r.n, gs.actual_start desc nulls last, ps.actual_start desc nulls last
+				on conflict (session_id, client_id) do nothing
+				returning client_id, id, taken_at),
+		due as (update charge_sessions set reading_due_at = null
+			where id = ${sessionId} and reading_due_at is not null and exists (select 1 from ins) returning 1)${markToken}
+		select (select status from s) as status,
+			coalesce((select json_agg(json_build_array(client_id, id)) from ins), '[]'::json) as stored,
+			(select pg_notify(${SESSION_EVENTS_CHANNEL}, json_build_object(
+					'sessionId', ${sessionId}::text, 'workshopId', ${head.workshopId}::text, 'kind', 'reading',
+					'count', x.n, 'newest', to_char(x.newest at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"'))::text)
+				from (select count(*) as n, max(taken_at) as newest from ins) x where x.n > 0) as notified`)) as unknown as {
+		status: ChargeSession['status'] | null;
+		stored: [string, number | string][];
+	}[];
 
 	if (!result || result.status === null) return notFound;
 	if (!acceptsReadings[source].has(result.status))
 		return { ok: false, status: 409, message: refusedStatus(result.status, source), errors: [] };
+	// Judged also when every reading is a repeat: a client sends again when it got no answer, which
+	// may be because this process stopped between the commit and the judgement.
+	await judgeSession(sessionId);
 
 	const idByClient = new Map<string, number>(result.stored.map(([clientId, id]) => [clientId, Number(id)]));
 	const storedIds = new Set(idByClient.keys());
