@@ -14,7 +14,7 @@ import { newId } from '$lib/server/ids';
 import { checkListening, listenerBackendPid, subscribe, subscriberCount } from '$lib/server/sessions/live';
 import { notifySession, type SessionEvent } from '$lib/server/sessions/notify';
 import { editReading } from '$lib/server/sessions/readings';
-import { forgetCachedSeries, forgetSeriesState, keptSeriesState, plannedCurrent, sessionSeries, sessionSeriesJson, type SessionSeries } from '$lib/server/sessions/series';
+import { Buckets, forgetCachedSeries, forgetSeriesState, keptSeriesState, plannedCurrent, sessionSeries, sessionSeriesJson, type SessionSeries } from '$lib/server/sessions/series';
 import { GET as eventsGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/events/+server';
 import { GET as seriesGet } from '../../src/routes/api/w/[workshop=slug]/sessions/[sessionId=id]/series/+server';
 import { apiEvent, joinAs, packFixture } from './helpers';
@@ -277,6 +277,28 @@ describe('session chart data', () => {
 		}
 		console.log(figures.join('\n'));
 	}, 600_000);
+
+	it('keeps a spike logged at the same moment as another reading of its group, wherever it falls in its bucket', () => {
+		// Buckets are 1 s · 2^level, aligned to the epoch; 8 s of readings in at most 4 buckets: 2 s each.
+		for (const [tie, other] of [
+			[4000, 4500], // the two readings are the bucket's first
+			[5000, 4500], // its last
+			[4500, 4000] // between its first and its last
+		]) {
+			const b = new Buckets(['volts'], 4);
+			b.fold('g', 0, [3.9]);
+			b.fold('g', 7000, [3.9]);
+			b.fold('g', other, [3.8]);
+			b.fold('g', tie, [3.9]);
+			b.fold('g', tie, [4.4]);
+			const points = b.points('g', 'volts');
+			expect(points).toContainEqual([tie, 4.4]);
+			expect(points).toContainEqual([other, 3.8]);
+			// Each reading once, in time order.
+			expect(points.length).toBe(new Set(points.map((p) => p.join())).size);
+			expect(points.map((p) => p[0])).toEqual([...points.map((p) => p[0])].sort((x, y) => x - y));
+		}
+	});
 
 	it('draws the running step’s planned current next to the logged one', async () => {
 		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });

@@ -135,15 +135,21 @@ export class Buckets {
 	lo = Infinity;
 	hi = -Infinity;
 	readonly groups = new Map<string | null, Map<number, Float64Array>>();
-	/** Change counters: a group's lines are unchanged while max(its stamp, reset) is. */
+	/**
+	 * Change counters: a group's line of a quantity is unchanged while max(its stamp, reset) is; a
+	 * quantity of all groups (ambient, the spread of volts) while max(the quantity's stamp, reset) is.
+	 */
 	private clock = 0;
 	private reset = 0;
-	private readonly stamps = new Map<string | null, number>();
+	private readonly stamps = new Map<string | null, number[]>();
+	private readonly quantityStamps: number[];
 
 	constructor(
 		readonly quantities: Quantity[],
 		readonly cap: number
-	) {}
+	) {
+		this.quantityStamps = quantities.map(() => 0);
+	}
 
 	/** The smallest level at which [lo, hi] fits in `cap` buckets. */
 	levelFor(lo: number, hi: number): number {
@@ -182,9 +188,15 @@ export class Buckets {
 		const need = this.levelFor(this.lo, this.hi);
 		while (this.level < need) this.coarsen();
 		if (values.every((v) => v === null)) return;
-		this.stamps.set(groupId, ++this.clock);
+		const stamp = ++this.clock;
+		let stamps = this.stamps.get(groupId);
+		if (!stamps) this.stamps.set(groupId, (stamps = this.quantities.map(() => 0)));
 		const a = this.bucket(groupId, bucketOf(t, this.level));
-		values.forEach((v, q) => v !== null && foldPoint(a, q * SLOTS, t, v));
+		values.forEach((v, q) => {
+			if (v === null) return;
+			foldPoint(a, q * SLOTS, t, v);
+			stamps[q] = this.quantityStamps[q] = stamp;
+		});
 	}
 
 	/** Replaces the content with what PostgreSQL aggregated at `level` (see `bucketsFromSql`). */
@@ -203,10 +215,11 @@ export class Buckets {
 		}
 	}
 
-	/** Changes when anything of the group (or of every group, with no argument) may have changed. */
-	stamp(groupId?: string | null): number {
-		if (groupId === undefined) return this.clock;
-		return Math.max(this.stamps.get(groupId) ?? 0, this.reset);
+	/** Changes when the group's quantity (or the quantity of any group, with no group) may have changed. */
+	stamp(q: Quantity, groupId?: string | null): number {
+		const i = this.quantities.indexOf(q);
+		const stamp = groupId === undefined ? this.quantityStamps[i] : (this.stamps.get(groupId)?.[i] ?? 0);
+		return Math.max(stamp ?? 0, this.reset);
 	}
 
 	private sortedKeys(groupId: string | null): number[] {
@@ -215,7 +228,8 @@ export class Buckets {
 
 	/**
 	 * The M4 points of one group's quantity in time order: per bucket its first, lowest, highest
-	 * and last point, once each (buckets do not overlap in time). Values ÷ `scale`.
+	 * and last point, once each (buckets do not overlap in time; two readings at one moment are two
+	 * points). Values ÷ `scale`.
 	 */
 	points(groupId: string | null, q: Quantity, scale = 1): SeriesPoint[] {
 		const group = this.groups.get(groupId);
@@ -232,11 +246,13 @@ export class Buckets {
 				[a[o + 2], a[o + 3]]
 			];
 			candidates.sort((x, y) => x[0] - y[0]);
-			let previous = NaN;
+			// Once each: the same reading is often the bucket's first and lowest, say. Two readings
+			// taken at the same moment both stay (a spike must not lose to the reading beside it).
+			const from = out.length;
 			for (const [t, v] of candidates) {
-				if (t === previous) continue;
-				previous = t;
-				out.push([t, v / scale]);
+				let seen = false;
+				for (let k = from; k < out.length; k++) if (out[k][0] === t && out[k][1] === v / scale) seen = true;
+				if (!seen) out.push([t, v / scale]);
 			}
 		}
 		return out;
@@ -755,14 +771,14 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 	const volts: SeriesLine[] = [];
 	const temps: SeriesLine[] = [];
 	for (const groupId of lineKeys) {
-		const stamp = main.stamp(groupId);
 		// Whole-pack readings are pack volts: ÷ groups in series for a per-cell chart.
-		const v = line(`volts:${groupId ?? ''}`, stamp, VOLT_DIGITS, () => main.points(groupId, 'volts', groupId === null ? row.series : 1));
+		const scale = groupId === null ? row.series : 1;
+		const v = line(`volts:${groupId ?? ''}`, main.stamp('volts', groupId), VOLT_DIGITS, () => main.points(groupId, 'volts', scale));
 		if (v.length) volts.push({ key: groupId ?? 'pack', label: label(groupId), points: v });
-		const t = line(`temp_c:${groupId ?? ''}`, stamp, DEGREE_DIGITS, () => main.points(groupId, 'temp_c'));
+		const t = line(`temp_c:${groupId ?? ''}`, main.stamp('temp_c', groupId), DEGREE_DIGITS, () => main.points(groupId, 'temp_c'));
 		if (t.length) temps.push({ key: groupId ?? 'pack', label: label(groupId), points: t });
 	}
-	const ambient = line('ambient', main.stamp(), DEGREE_DIGITS, () => main.pointsOfAll('ambient_c'));
+	const ambient = line('ambient', main.stamp('ambient_c'), DEGREE_DIGITS, () => main.pointsOfAll('ambient_c'));
 	if (ambient.length) temps.push({ key: 'ambient', label: 'Ambient', points: ambient });
 	let lo = Infinity;
 	let hi = -Infinity;
@@ -787,7 +803,7 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 		from: lo === Infinity ? null : new Date(lo).toISOString(),
 		to: hi === -Infinity ? null : new Date(hi).toISOString(),
 		volts,
-		spread: line('spread', main.stamp(), VOLT_DIGITS, () => main.spread()),
+		spread: line('spread', main.stamp('volts'), VOLT_DIGITS, () => main.spread()),
 		temps,
 		limits,
 		step: await runningStep(member, visible, row, n, state)
