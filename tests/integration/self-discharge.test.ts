@@ -13,6 +13,7 @@ import { getSelfDischarge, storeVoltageChecks } from '$lib/server/self-discharge
 import type { Member } from '$lib/server/auth/permissions';
 import { selfDischargeWords } from '$lib/self-discharge-words';
 import * as page from '../../src/routes/(app)/w/[workshop=slug]/packs/[packId=id]/self-discharge/+page.server';
+import { loadDemoSelfDischarge } from '$lib/server/demo/self-discharge';
 import { joinAs, packFixture } from './helpers';
 
 const DAY = 86_400_000;
@@ -188,5 +189,20 @@ describe('self-discharge check of a built pack', () => {
 		const words = selfDischargeWords(view);
 		expect(words.fast.map((f) => f.sentence)).toEqual(["G5 lost 25 mV/day (100 mV in 4 days); the batch's median is 3 mV/day."]);
 		expect(words.fastAdvice).toMatch(/Keep the pack out of service/);
+	});
+});
+
+describe("the demo's check", () => {
+	it("names group 7 of the cargo trike, the group that ended its charge below the others", async () => {
+		const { owner, pack } = await packFixture({ series: 13, parallel: 1 });
+		await db.update(packs).set({ name: 'Cargo trike pack' }).where(eq(packs.id, pack.id));
+		await addCells(owner, pack.id, Array.from({ length: 13 }, (_, i) => ({ label: `T${i + 1}`, volts: 3.5, resistanceMilliOhms: 16, capacityAh: 4 })));
+		const batch = await listBatch(owner, pack.id);
+		expect(await acceptMatching(owner, pack.id, { groups: batch.cells.map((c) => [c.id]), replace: false })).toMatchObject({ ok: true });
+		await loadDemoSelfDischarge(owner.workshop.slug, owner.user.email);
+		const words = selfDischargeWords(await getSelfDischarge(owner, pack.id));
+		expect(words.failure).toBeNull();
+		expect(words.fast.map((f) => f.label)).toEqual(['G7']);
+		expect(words.gained).toEqual([]);
 	});
 });

@@ -11,6 +11,7 @@ import { newId } from '../ids';
 import { loadDemoChargers } from './chargers';
 import { loadDemoPacks } from './packs';
 import { loadDemoSessions } from './sessions';
+import { loadDemoSelfDischarge } from './self-discharge';
 
 export const demoWorkshop = { name: 'Larkfield Battery Bench', slug: 'larkfield', timeZone: 'Europe/London' };
 
@@ -41,6 +42,11 @@ export async function loadDemoIfEmpty(password: string): Promise<boolean> {
 		await loadDemoSessions(demoWorkshop.slug, { builder: email('builder'), technician: email('technician') });
 	} catch (e) {
 		console.error('The demo workshop loaded without its charge sessions:', e);
+	}
+	try {
+		await loadDemoSelfDischarge(demoWorkshop.slug, email('technician'));
+	} catch (e) {
+		console.error('The demo workshop loaded without its self-discharge check:', e);
 	}
 	return true;
 }
