@@ -129,7 +129,14 @@ test('a second browser receives a new reading as a server-sent event and charts 
 	await expect(summary).toContainText('highest G2 3.912');
 	await expect(summary).toContainText('lowest G1 3.655');
 	expect(await watcher.evaluate(() => (window as unknown as { untouched?: boolean }).untouched)).toBe(true);
-	await expect(watcher.getByRole('img', { name: 'Chart of volts per cell by group over time' })).toBeVisible();
+	// The drawings load when asked for, and the choice is remembered on this device.
+	const chart = watcher.getByRole('img', { name: 'Chart of volts per cell by group over time' });
+	await expect(chart).toHaveCount(0);
+	await watcher.getByRole('button', { name: 'Draw the charts' }).click();
+	await expect(chart).toBeVisible();
+	await watcher.reload();
+	await expect(chart).toBeVisible(slow);
+	await expect(watcher.getByRole('button', { name: 'Hide the drawings' })).toHaveAttribute('aria-pressed', 'true');
 	expect(pageErrors).toEqual([]);
 
 	await bench.close();

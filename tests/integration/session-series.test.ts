@@ -144,7 +144,7 @@ describe('session chart data', () => {
 		const packLine = body.volts.find((l) => l.key === 'pack');
 		expect(packLine?.label).toBe('Whole pack (per cell)');
 		expect(packLine?.points).toEqual([[t0 + 3 * MINUTE, 3.8]]);
-		expect(body.step).toBeNull();
+		expect(body.steps).toEqual([]);
 		// The answer is pieced together from each line's kept JSON: the same text JSON.stringify gives.
 		expect(await sessionSeriesJson(owner, session.id)).toBe(JSON.stringify(await sessionSeries(owner, session.id)));
 
@@ -192,7 +192,7 @@ describe('session chart data', () => {
 		};
 		const N = 50; // 100 buckets: ~13 readings of a group per bucket, so the buckets really aggregate
 		const fetchBody = async () => (await (await getSeries(owner, session.id, N)).json()) as SessionSeries;
-		const comparable = (body: SessionSeries) => ({ ...body, step: body.step && { ...body.step, reestimate: null } });
+		const comparable = (body: SessionSeries) => ({ ...body, steps: body.steps.map((s) => ({ ...s, reestimate: null })) });
 
 		await insertReadings(session.id, pack.id, round(0, 1000));
 		const first = await fetchBody();
@@ -220,7 +220,7 @@ describe('session chart data', () => {
 		}
 		expect(Math.max(...incremental.volts[2].points.map((p) => p[1]))).toBe(4.4);
 		expect(Math.min(...incremental.volts[3].points.map((p) => p[1]))).toBe(3.1);
-		expect(incremental.step?.actualAmps[0][0]).toBe(start); // readings before the step's start stay out
+		expect(incremental.steps[0]?.actualAmps[0][0]).toBe(start); // readings before the step's start stay out
 
 		forgetSeriesState();
 		expect(comparable(incremental)).toEqual(comparable(await fetchBody()));
@@ -300,40 +300,59 @@ describe('session chart data', () => {
 		}
 	});
 
-	it('draws the running step’s planned current next to the logged one', async () => {
+	it('draws every running step’s planned current next to the logged one (two channels side by side)', async () => {
 		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });
-		const [g1] = await groupsOf(pack.id);
+		const [g1, g2, g3] = await groupsOf(pack.id);
 		const session = await sessionOf(owner, pack.id);
 		const start = Date.now() - 90 * MINUTE;
-		await db.insert(sessionSteps).values({
+		const step = (position: number, groupId: string, channelLabel: string, status: 'running' | 'waiting', startedAt: number | null) => ({
 			id: newId(),
 			sessionId: session.id,
-			position: 1,
-			groupId: g1.id,
-			channelLabel: 'Channel 1',
+			position,
+			groupId,
+			channelLabel,
 			setVolts: 4.2,
 			amps: 4,
 			expectedStart: new Date(start),
 			expectedEnd: new Date(start + 3 * 60 * MINUTE),
 			ccHours: 1.5,
 			cvHours: 1.5,
-			actualStart: new Date(start),
-			status: 'running'
+			actualStart: startedAt === null ? null : new Date(startedAt),
+			status
 		});
+		await db.insert(sessionSteps).values([
+			step(1, g1.id, 'Channel 1', 'running', start),
+			step(2, g2.id, 'Channel 2', 'running', start + 30 * MINUTE),
+			step(3, g3.id, 'Channel 1', 'waiting', null)
+		]);
 		await insertReadings(session.id, pack.id, [
 			{ groupId: g1.id, takenAt: new Date(start + 30 * MINUTE), volts: 3.9, amps: 4 },
 			{ groupId: g1.id, takenAt: new Date(start + 60 * MINUTE), volts: 4.05, amps: 4 },
-			{ groupId: g1.id, takenAt: new Date(start + 89 * MINUTE), volts: 4.2, amps: 3.1 }
+			{ groupId: g1.id, takenAt: new Date(start + 89 * MINUTE), volts: 4.2, amps: 3.1 },
+			// Group 2 before its step started (at rest) and on its charger.
+			{ groupId: g2.id, takenAt: new Date(start + 20 * MINUTE), volts: 3.6, amps: 0 },
+			{ groupId: g2.id, takenAt: new Date(start + 60 * MINUTE), volts: 3.95, amps: 3.9 }
 		]);
 		const body = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
-		expect(body.step?.actualAmps.map((p) => p[1])).toEqual([4, 4, 3.1]);
+		expect(body.steps.map((s) => [s.position, s.channelLabel])).toEqual([
+			[1, 'Channel 1'],
+			[2, 'Channel 2']
+		]);
+		expect(body.steps[1].actualAmps).toEqual([[start + 60 * MINUTE, 3.9]]);
+		// A new reading of group 2 is folded into its step's kept line.
+		await insertReadings(session.id, pack.id, [{ groupId: g2.id, takenAt: new Date(start + 80 * MINUTE), volts: 4.1, amps: 3.8 }]);
+		await db.transaction((tx) => notifySession(tx, { sessionId: session.id, workshopId: owner.workshop.id, kind: 'reading', count: 1 }));
+		await expect
+			.poll(async () => ((await (await getSeries(owner, session.id)).json()) as SessionSeries).steps[1].actualAmps.map((p) => p[1]))
+			.toEqual([3.9, 3.8]);
+		expect(body.steps[0]?.actualAmps.map((p) => p[1])).toEqual([4, 4, 3.1]);
 		// Built-in NMC ends at 0.05C: 0.05 × 4 Ah × 2 in parallel = 0.4 A, reached at the end of CV.
-		const predicted = body.step!.predictedAmps;
+		const predicted = body.steps[0].predictedAmps;
 		expect(predicted[0]).toEqual([start, 4]);
 		expect(predicted.at(-1)![0]).toBe(start + 3 * 60 * MINUTE);
 		expect(predicted.at(-1)![1]).toBeCloseTo(0.4, 3);
-		expect(body.step?.predictedBasis).toContain('0.4 A');
-		expect(body.step?.reestimate?.remainingHours).toBeGreaterThan(0);
+		expect(body.steps[0]?.predictedBasis).toContain('0.4 A');
+		expect(body.steps[0]?.reestimate?.remainingHours).toBeGreaterThan(0);
 	});
 
 	it('plannedCurrent: the exponential taper is at I/√(I/Iterm) halfway through CV (worked by hand)', () => {
@@ -353,7 +372,7 @@ describe('session chart data', () => {
 		const viewer = await joinAs(owner, 'viewer');
 		await expect(getSeries(viewer, session.id)).rejects.toMatchObject({ status: 404 });
 		const empty = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
-		expect(empty).toMatchObject({ from: null, to: null, volts: [], spread: [], temps: [], step: null });
+		expect(empty).toMatchObject({ from: null, to: null, volts: [], spread: [], temps: [], steps: [] });
 		const events = apiEvent(viewer, `/api/w/${owner.workshop.slug}/sessions/${session.id}/events`, { workshop: owner.workshop.slug, sessionId: session.id });
 		await expect(eventsGet(events as never)).rejects.toMatchObject({ status: 404 });
 		for (const bad of ['5000', '3', 'abc', '1.5']) {

@@ -64,7 +64,8 @@ export type SessionSeries = {
 	/** °C per group, and 'ambient'. */
 	temps: SeriesLine[];
 	limits: SeriesLimits;
-	step: StepSeries | null;
+	/** Every running step (several channels run side by side), in the plan's order. */
+	steps: StepSeries[];
 };
 
 export const DEFAULT_POINTS = 600;
@@ -405,28 +406,43 @@ function hoursText(h: number): string {
 	return minutes < 60 ? `${minutes} min` : `${Math.floor(minutes / 60)} h ${minutes % 60} min`;
 }
 
-async function runningStep(
+async function runningSteps(
 	member: Member,
 	session: { id: string; packId: string },
 	pack: { series: number; parallel: number; cellSpecId: string },
 	points: number,
 	state: SeriesState
-): Promise<StepSeries | null> {
-	const [step] = await db
+): Promise<StepSeries[]> {
+	const running = await db
 		.select({ step: sessionSteps, groupIndex: packGroups.index })
 		.from(sessionSteps)
 		.leftJoin(packGroups, eq(packGroups.id, sessionSteps.groupId))
 		.where(and(eq(sessionSteps.sessionId, session.id), eq(sessionSteps.status, 'running')))
-		.orderBy(asc(sessionSteps.position))
-		.limit(1);
-	if (!step || !step.step.actualStart) return null;
+		.orderBy(asc(sessionSteps.position));
+	const started = running.filter((r) => r.step.actualStart !== null);
+	// Buckets of steps that no longer run are dropped.
+	const keys = new Set(started.map((r) => stepKey(r.step)));
+	for (const key of [...state.steps.keys()]) if (!keys.has(key)) state.steps.delete(key);
+	return Promise.all(started.map((r) => stepSeries(member, session, pack, points, state, r)));
+}
+
+const stepKey = (s: { id: string; actualStart: Date | null; groupId: string | null }) => `${s.id}:${s.actualStart?.getTime()}:${s.groupId}`;
+
+async function stepSeries(
+	member: Member,
+	session: { id: string; packId: string },
+	pack: { series: number; parallel: number; cellSpecId: string },
+	points: number,
+	state: SeriesState,
+	step: { step: typeof sessionSteps.$inferSelect; groupIndex: number | null }
+): Promise<StepSeries> {
 	const s = step.step;
 	const start = s.actualStart!;
 	const scale = s.groupId === null ? pack.series : 1;
 	const groupMatch = s.groupId === null ? sql`group_id is null` : sql`group_id = ${s.groupId}`;
 	const where = sql`session_id = ${session.id} and ${groupMatch} and taken_at >= ${start.toISOString()}::timestamptz`;
 	const [buckets, recent] = await Promise.all([
-		stepBuckets(state, { key: `${s.id}:${start.getTime()}:${s.groupId}`, groupId: s.groupId, from: start.getTime() }, where),
+		stepBuckets(state, { key: stepKey(s), groupId: s.groupId, from: start.getTime() }, where),
 		db.execute(sql`select taken_at as "at", volts, amps from readings
 			where ${where} and volts is not null and amps is not null order by taken_at desc limit 200`)
 	]);
@@ -511,7 +527,8 @@ type SeriesState = {
 	sessionId: string;
 	n: number;
 	main: Buckets;
-	step: StepView | null;
+	/** The running steps' current, by step (id, start and group). */
+	steps: Map<string, StepView>;
 	builtAt: number | null;
 	base: bigint;
 	maxSeen: bigint;
@@ -550,7 +567,7 @@ function stateFor(sessionId: string, n: number): SeriesState {
 			sessionId,
 			n,
 			main: new Buckets(MAIN_QUANTITIES, 2 * n),
-			step: null,
+			steps: new Map(),
 			builtAt: null,
 			base: 0n,
 			maxSeen: 0n,
@@ -566,10 +583,11 @@ function stateFor(sessionId: string, n: number): SeriesState {
 	states.set(key, state);
 	while (states.size > MAX_STATES) states.delete(states.keys().next().value!);
 	let buckets = 0;
-	for (const kept of states.values()) buckets += kept.main.size + (kept.step?.buckets.size ?? 0);
+	const sizeOf = (kept: SeriesState) => kept.main.size + [...kept.steps.values()].reduce((n, v) => n + v.buckets.size, 0);
+	for (const kept of states.values()) buckets += sizeOf(kept);
 	for (const [k, kept] of states) {
 		if (buckets <= MAX_BUCKETS || kept === state) break;
-		buckets -= kept.main.size + (kept.step?.buckets.size ?? 0);
+		buckets -= sizeOf(kept);
 		states.delete(k);
 	}
 	return state;
@@ -603,7 +621,7 @@ async function build(state: SeriesState) {
 		state.edits = snap.edits;
 		state.verify = snap.xmin < snap.xmax ? { xmax: snap.xmax, maxId, count } : null;
 	}, snapshotRead);
-	state.step = null;
+	state.steps.clear();
 	state.builtAt = Date.now();
 }
 
@@ -638,10 +656,10 @@ async function refresh(state: SeriesState) {
 	}, snapshotRead);
 	if (!read) return build(state);
 	const { snap, rows } = read;
-	const step = state.step;
+	const steps = [...state.steps.values()];
 	for (const r of rows) {
 		state.main.fold(r.groupId, r.t, [r.volts, r.temp_c, r.ambient_c]);
-		if (step && r.groupId === step.groupId && r.t >= step.from) step.buckets.fold(r.groupId, r.t, [r.amps]);
+		for (const step of steps) if (r.groupId === step.groupId && r.t >= step.from) step.buckets.fold(r.groupId, r.t, [r.amps]);
 		const id = BigInt(r.id);
 		if (id > state.maxSeen) state.maxSeen = id;
 	}
@@ -655,14 +673,16 @@ async function refresh(state: SeriesState) {
 	}
 }
 
-/** The running step's current in buckets, built once per step and then kept up by `refresh`. */
+/** A running step's current in buckets, built once per step and then kept up by `refresh`. */
 async function stepBuckets(state: SeriesState, view: Omit<StepView, 'buckets'>, where: SQL): Promise<Buckets> {
-	if (state.step?.key !== view.key) {
+	let kept = state.steps.get(view.key);
+	if (!kept) {
 		const buckets = new Buckets(['amps'], 2 * state.n);
 		await bucketsFromSql(db, buckets, where);
-		state.step = { ...view, buckets };
+		kept = { ...view, buckets };
+		state.steps.set(view.key, kept);
 	}
-	return state.step.buckets;
+	return kept.buckets;
 }
 
 /**
@@ -806,7 +826,7 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 		spread: line('spread', main.stamp('volts'), VOLT_DIGITS, () => main.spread()),
 		temps,
 		limits,
-		step: await runningStep(member, visible, row, n, state)
+		steps: await runningSteps(member, visible, row, n, state)
 	};
 	// The answer as JSON, from the kept lines' JSON: the same text as JSON.stringify(series).
 	const points = (p: SeriesPoint[]) => json.get(p) ?? JSON.stringify(p);
@@ -815,6 +835,6 @@ async function seriesFromState(member: Member, visible: VisibleSession, n: numbe
 	const text =
 		`{"points":${n},"from":${JSON.stringify(series.from)},"to":${JSON.stringify(series.to)},` +
 		`"volts":${lines(volts)},"spread":${points(series.spread)},"temps":${lines(temps)},` +
-		`"limits":${JSON.stringify(limits)},"step":${JSON.stringify(series.step)}}`;
+		`"limits":${JSON.stringify(limits)},"steps":${JSON.stringify(series.steps)}}`;
 	return { series, json: text };
 }
