@@ -255,6 +255,14 @@ function readingsOf(opts: {
 	offset?: (groupIndex: number) => number;
 	/** Also each group's reading two minutes before each of its steps ended (what the charger showed at its end). */
 	stepEnds?: boolean;
+	/**
+	 * Also each group's reading just before its first charge step started (at rest, no current) and
+	 * one just after with the current on: the pair the pack history's charge resistance is read
+	 * from (ΔV/ΔI, within two minutes). `groupOhms`: the group's jump per amp, a little apart from
+	 * group to group (invented, plausible: four cells of 16 mΩ in parallel, leads and the first
+	 * seconds of polarisation).
+	 */
+	stepStarts?: { groupOhms: number };
 }): ReadingRow[] {
 	const { session, steps, groups, chem, capacityAh } = opts;
 	const setVolts = session.setVolts ?? chem.maxChargeVolts;
@@ -300,17 +308,18 @@ function readingsOf(opts: {
 			note,
 			clientId
 		};
-		return { row, step: s.step };
+		return { row, step: s.step, modelAmps: s.amps };
 	};
 	opts.rounds.forEach((at, k) => {
 		const ambient = Math.round(opts.ambient(at) * 10) / 10;
 		let packVolts = 0;
 		let packStep: RunStep | null = null;
+		let packAmps: number | null = null;
 		for (const g of groups) {
 			// Each group read a few seconds after the one before.
-			const { row, step } = readGroup(g, new Date(at.getTime() + g.index * 20_000), ambient, g.index === 1 ? (opts.note?.(at) ?? '') : '', `demo-${k + 1}-g${g.index}`);
+			const { row, step, modelAmps } = readGroup(g, new Date(at.getTime() + g.index * 20_000), ambient, g.index === 1 ? (opts.note?.(at) ?? '') : '', `demo-${k + 1}-g${g.index}`);
 			packVolts += row.volts!;
-			if (step?.groupId === null) packStep = step;
+			if (step?.groupId === null) [packStep, packAmps] = [step, modelAmps];
 			rows.push(row);
 		}
 		if (packStep) {
@@ -321,7 +330,8 @@ function readingsOf(opts: {
 				stepId: step.id,
 				takenAt: new Date(at.getTime() + (groups.length + 1) * 20_000),
 				volts: Math.round(packVolts * 100) / 100,
-				amps: Math.round(((step.amps ?? 0) + (opts.rand() - 0.5) * 0.04) * 100) / 100,
+				// The charger's current as the model has it (tapering in CV), not the set current.
+				amps: Math.round(((packAmps ?? step.amps ?? 0) + (opts.rand() - 0.5) * 0.04) * 100) / 100,
 				tempC: null,
 				ambientC: ambient,
 				note: '',
@@ -339,6 +349,46 @@ function readingsOf(opts: {
 				// The last group read two minutes before the end, the others a few seconds before it.
 				const takenAt = new Date(end - 2 * MINUTE - (groups.length - g.index) * 10_000);
 				rows.push(readGroup(g, takenAt, ambient, '', `demo-end-${step.position}-g${g.index}`).row);
+			}
+			if (step.groupId === null && groups.length > 0) {
+				// The charger's own figures at the end of a whole-pack step: pack volts and the current then.
+				const takenAt = new Date(end - 2 * MINUTE - groups.length * 10_000);
+				const parts = groups.map((g) => readGroup(g, takenAt, ambient, '', ''));
+				rows.push({
+					sessionId: session.id,
+					packId: session.packId,
+					groupId: null,
+					stepId: step.id,
+					takenAt,
+					volts: Math.round(parts.reduce((sum, p) => sum + p.row.volts!, 0) * 100) / 100,
+					amps: Math.round(((parts[0].modelAmps ?? step.amps ?? 0) + (opts.rand() - 0.5) * 0.04) * 100) / 100,
+					tempC: null,
+					ambientC: ambient,
+					note: '',
+					clientId: `demo-end-${step.position}-pack`
+				});
+			}
+		}
+	}
+	if (opts.stepStarts) {
+		const { groupOhms } = opts.stepStarts;
+		const ohms = new Map(groups.map((g) => [g.id, groupOhms + opts.rand() * 0.0015]));
+		const started = new Set<string>();
+		const charging = steps.filter((s) => s.actualStart && ['charge', 'top-up', 'balance'].includes(s.role));
+		for (const step of charging.sort((a, b) => a.actualStart!.getTime() - b.actualStart!.getTime())) {
+			const start = step.actualStart!.getTime();
+			const ambient = Math.round(opts.ambient(step.actualStart!) * 10) / 10;
+			for (const g of groups) {
+				if ((step.groupId !== null && step.groupId !== g.id) || started.has(g.id)) continue;
+				started.add(g.id);
+				// Read group by group a couple of seconds apart: 50 s before the current goes on, 20 s after.
+				const before = readGroup(g, new Date(start - 50_000 + g.index * 2_000), ambient, '', `demo-start-${step.position}-g${g.index}-before`).row;
+				const after = readGroup(g, new Date(start + 20_000 + g.index * 2_000), ambient, '', `demo-start-${step.position}-g${g.index}-after`).row;
+				const amps = Math.round(((step.amps ?? 1) + (opts.rand() - 0.5) * 0.04) * 100) / 100;
+				after.amps = amps;
+				after.stepId = step.id;
+				after.volts = Math.round((before.volts! + amps * ohms.get(g.id)!) * 1000) / 1000;
+				rows.push(before, after);
 			}
 		}
 	}
@@ -449,7 +499,8 @@ export async function loadDemoSessions(slug: string, emails: DemoEmails, now = n
 			ambient: (at) => 19.5 - Math.min(3, Math.max(0, (at.getTime() - trikeStarted.getTime()) / HOUR) * 0.3),
 			rand,
 			note: (at) => (at.getTime() === trikeRounds[trikeRounds.length - 1].getTime() ? 'Rest readings, two hours after the last step' : at >= trikeNight && at.getTime() - trikeNight.getTime() < HOUR ? 'Night watch: Priya at the bench' : ''),
-			stepEnds: true
+			stepEnds: true,
+			stepStarts: { groupOhms: 0.0055 }
 		}),
 		...readingsOf({
 			session: camperSession,
@@ -528,6 +579,7 @@ function readingsOfRide(session: ChargeSession, steps: RunStep[], spec: PlanCont
 		rand,
 		offset: (index) => (index === 7 ? -0.035 : 0),
 		stepEnds: true,
+		stepStarts: { groupOhms: 0.0055 },
 		note: (at) => (at.getTime() === restRound.getTime() ? 'Rest readings, two hours after the charge' : '')
 	});
 	const last = steps.reduce((a, b) => (b.actualEnd! > a.actualEnd! ? b : a));
