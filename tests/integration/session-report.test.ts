@@ -102,16 +102,16 @@ describe('the session report', () => {
 		expect(report.alerts[0].acknowledgedBy?.name).toBe(owner.user.name);
 		expect(report.alerts[0].acknowledgedAt).toBeInstanceOf(Date);
 
-		const said = report.activity.map((a) => `${a.who}: ${a.text}`);
+		const said = report.activity.map((a) => [a.who, a.title, ...a.details].join(' | '));
 		expect(said).toEqual(
 			expect.arrayContaining([
-				`${owner.user.name}: finished step 1 (charge, group 1)`,
-				`${owner.user.name}: acknowledged the alert “Group 2: drifting from the others”: “${note}”`,
-				`${owner.user.name}: stopped the session: “${reason}”`
+				`${owner.user.name} | Step ended: step 1 (group 1)`,
+				`${owner.user.name} | Alert acknowledged: Group 2: drifting from the others | Note: “${note}”`,
+				`${owner.user.name} | Session stopped | Reason: ${reason}`
 			])
 		);
 		// Oldest first: the step ended before the acknowledgement, which came before the stop.
-		const order = ['finished step 1', 'acknowledged the alert', 'stopped the session'].map((t) => said.findIndex((s) => s.includes(t)));
+		const order = ['Step ended', 'Alert acknowledged', 'Session stopped'].map((t) => said.findIndex((s) => s.includes(t)));
 		expect(order.every((i) => i >= 0)).toBe(true);
 		expect([...order].sort((a, b) => a - b)).toEqual(order);
 	});

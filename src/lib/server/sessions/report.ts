@@ -6,10 +6,11 @@
  * the pack. Every time stays a Date; the page shows it in the workshop's zone.
  */
 import { and, asc, eq, sql } from 'drizzle-orm';
-import { formatSetVolts, formatVolts, groupName } from '$lib/run-words';
+import { describeAuditEvent } from '$lib/audit-words';
+import { formatSetVolts, formatVolts } from '$lib/run-words';
 import { sessionKindLabels } from '$lib/session-plan';
-import type { Member } from '../auth/permissions';
 import { listAlerts, type AlertListItem } from '../alerts/inbox';
+import type { Member } from '../auth/permissions';
 import { db } from '../db';
 import { auditEvents, cellSpecs, packs, readings, type ChargeSession, type SessionStep } from '../db/schema';
 import { getSession } from './core';
@@ -38,7 +39,8 @@ export type ReportStep = {
 	status: SessionStep['status'];
 };
 
-export type ReportActivity = { at: Date; who: string; text: string };
+/** An audit event in the audit page's words (audit-words.ts): "Step ended: step 3", ["Note: …"]. */
+export type ReportActivity = { at: Date; who: string; title: string; details: string[] };
 
 export type SessionReport = {
 	workshop: { name: string; timeZone: string };
@@ -83,107 +85,6 @@ function targetWords(s: ChargeSession): string {
 	if (s.target === 'volts' && s.targetVolts !== null) return `${formatVolts(s.targetVolts)} per cell at rest`;
 	const to = s.setVolts !== null ? ` (set ${formatSetVolts(s.setVolts)} per cell)` : '';
 	return `full${to}`;
-}
-
-const stepRoleWords: Record<string, string> = {
-	charge: 'charge',
-	'top-up': 'top-up',
-	balance: 'BMS balance',
-	bleed: 'bleed',
-	rest: 'rest'
-};
-
-function stepName(step: { position: number; groupIndex: number | null; role: string } | undefined): string {
-	if (!step) return 'a step';
-	return `step ${step.position} (${stepRoleWords[step.role] ?? step.role}, ${groupName(step.groupIndex)})`;
-}
-
-const readingFieldWords: Record<string, { label: string; unit: string }> = {
-	volts: { label: 'volts', unit: 'V' },
-	amps: { label: 'current', unit: 'A' },
-	tempC: { label: 'temperature', unit: '°C' },
-	ambientC: { label: 'ambient', unit: '°C' },
-	takenAt: { label: 'time', unit: '' },
-	note: { label: 'note', unit: '' }
-};
-
-function valueWords(v: unknown, unit: string): string {
-	if (v === null || v === undefined || v === '') return 'none';
-	if (typeof v === 'number') return unit ? `${v}\u2009${unit}` : String(v);
-	return `“${String(v)}”`;
-}
-
-type AuditRow = {
-	at: Date;
-	actorLabel: string;
-	kind: string;
-	subjectId: string;
-	before: Record<string, unknown> | null;
-	after: Record<string, unknown> | null;
-	readingGroupIndex: number | null;
-};
-
-/**
- * One audit event in words: "started step 3 (charge, group 7)". `stepOf` and `alertOf` name the
- * subject by id; an unknown kind is named as it is stored rather than left out.
- */
-export function activityText(
-	row: AuditRow,
-	stepOf: (id: string) => ReportStep | undefined,
-	alertOf: (id: string) => AlertListItem | undefined
-): string {
-	const after = row.after ?? {};
-	const before = row.before ?? {};
-	switch (row.kind) {
-		case 'session.create':
-			return 'planned the session';
-		case 'session.update':
-			return 'changed the plan';
-		case 'session.start':
-			return 'started the session';
-		case 'session.pause':
-			return 'paused the session';
-		case 'session.resume':
-			return 'resumed the session';
-		case 'session.stop':
-			return typeof after.reason === 'string' && after.reason ? `stopped the session: “${after.reason}”` : 'stopped the session';
-		case 'session.done':
-			return 'ended the session (every step done)';
-		case 'watch.handover': {
-			const to = typeof after.watchName === 'string' && after.watchName ? after.watchName : null;
-			return to ? `handed the watch to ${to}` : 'left nobody named on watch';
-		}
-		case 'step.start':
-			return `started ${stepName(stepOf(row.subjectId))}`;
-		case 'step.done':
-			return `finished ${stepName(stepOf(row.subjectId))}`;
-		case 'step.skip':
-			return `skipped ${stepName(stepOf(row.subjectId))}`;
-		case 'reading.edit': {
-			const changes = Object.keys(after).map((key) => {
-				const words = readingFieldWords[key] ?? { label: key, unit: '' };
-				return `${words.label} ${valueWords(before[key], words.unit)} → ${valueWords(after[key], words.unit)}`;
-			});
-			const of = row.readingGroupIndex === null ? 'a reading' : `a reading of ${groupName(row.readingGroupIndex)}`;
-			return `corrected ${of}${changes.length ? `: ${changes.join(', ')}` : ''}`;
-		}
-		case 'device-token.issue':
-			return `let a data logger post readings${typeof after.name === 'string' ? ` (“${after.name}”)` : ''}`;
-		case 'device-token.revoke':
-			return 'withdrew a data logger’s key';
-		case 'alert.acknowledge': {
-			const alert = alertOf(row.subjectId);
-			const what = alert ? `the alert “${alert.title}”` : 'an alert';
-			const note = typeof after.ackNote === 'string' ? after.ackNote : typeof after.note === 'string' ? after.note : '';
-			return `acknowledged ${what}${note ? `: “${note}”` : ''}`;
-		}
-		case 'watchers.change': {
-			const name = typeof after.name === 'string' ? after.name : 'someone';
-			return after.watching ? `added ${name} to the people told of alerts` : `took ${name} off the people told of alerts`;
-		}
-		default:
-			return `changed something (${row.kind})`;
-	}
 }
 
 /** The report of one session the member may see (404 otherwise). */
@@ -236,12 +137,23 @@ export async function sessionReport(member: Member, sessionId: string): Promise<
 	}));
 	const stepById = new Map(detail.steps.map((s, i) => [s.id, steps[i]]));
 	const alertsOldestFirst = [...alertList].sort((a, b) => a.openedAt.getTime() - b.openedAt.getTime() || a.id.localeCompare(b.id));
-	const alertById = new Map(alertsOldestFirst.map((a) => [a.id, a]));
-	const activity = audits.map((row) => ({
-		at: row.at,
-		who: row.actorLabel || 'someone',
-		text: activityText(row, (id) => stepById.get(id), (id) => alertById.get(id))
-	}));
+	const alertTitle = new Map(alertsOldestFirst.map((a) => [a.id, a.title]));
+	const activity: ReportActivity[] = audits.map((row) => {
+		const words = describeAuditEvent(
+			{
+				kind: row.kind,
+				before: row.before,
+				after: row.after,
+				alertTitle: row.kind === 'alert.acknowledge' ? (alertTitle.get(row.subjectId) ?? null) : undefined,
+				groupIndex: row.kind === 'reading.edit' ? row.readingGroupIndex : undefined
+			},
+			member.workshop.timeZone
+		);
+		// A step's event names its group too: the owner reads groups, not step numbers.
+		const step = row.kind.startsWith('step.') ? stepById.get(row.subjectId) : undefined;
+		const title = step ? `${words.title} (${step.groupIndex === null ? 'whole pack' : `group ${step.groupIndex}`})` : words.title;
+		return { at: row.at, who: row.actorLabel || 'someone', title, details: words.details };
+	});
 
 	return {
 		workshop: { name: member.workshop.name, timeZone: member.workshop.timeZone },
