@@ -134,7 +134,15 @@ start_test_database() {
 		if bash scripts/pg.sh status --test >/dev/null 2>&1; then
 			say "Using the test database that is already running (and leaving it running)."
 		else
-			bash scripts/pg.sh up --test || return 1
+			# It outlives this run: it must not hold any file this run was given (a lock taken by
+			# `flock … bash scripts/test.sh` would stay taken as long as the database runs).
+			(
+				for fd in /proc/self/fd/*; do
+					fd="${fd##*/}"
+					if [ "$fd" -gt 2 ] 2>/dev/null; then eval "exec $fd>&-" 2>/dev/null || true; fi
+				done
+				bash scripts/pg.sh up --test
+			) || return 1
 			say "The test database stays running after these tests: bash scripts/pg.sh down --test stops it."
 		fi
 		TEST_DATABASE_URL="$(bash scripts/pg.sh url --test)"
