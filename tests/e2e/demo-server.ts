@@ -11,6 +11,7 @@ import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { test } from '@playwright/test';
 import postgres from 'postgres';
 
 /** Where scripts/test.sh builds the app under test. */
@@ -98,4 +99,24 @@ export async function startDemoServer(): Promise<DemoServer> {
 		throw e;
 	}
 	return { baseURL, password, stop };
+}
+
+/**
+ * For a test file: one demo server for the file's tests (started before the first, stopped after
+ * the last; the tests are skipped where it cannot start). Call at the top of the file; the getter
+ * answers inside a test.
+ */
+export function useDemoServer(): () => DemoServer {
+	let demo: DemoServer | undefined;
+	test.describe.configure({ mode: 'serial' });
+	test.beforeAll(async () => {
+		test.setTimeout(180_000);
+		const why = demoServerUnavailable();
+		test.skip(why !== null, why ?? '');
+		demo = await startDemoServer();
+	});
+	test.afterAll(async () => {
+		await demo?.stop();
+	});
+	return () => demo!;
 }
