@@ -41,8 +41,8 @@ const VOLT_STEPS = [0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5, 1];
 
 /** Ticks of the volts axis over [lo, hi], on multiples of a round step. */
 export function voltTicks(lo: number, hi: number, max = 7): Tick[] {
-	const span = Math.max(hi - lo, 1e-6);
-	const step = VOLT_STEPS.find((s) => span / s <= max - 1) ?? 1;
+	const count = (s: number) => Math.floor(hi / s + 1e-9) - Math.ceil(lo / s - 1e-9) + 1;
+	const step = VOLT_STEPS.find((s) => count(s) <= max) ?? 1;
 	const digits = step < 0.01 ? 3 : step < 0.1 ? 2 : 1;
 	const ticks: Tick[] = [];
 	for (let v = Math.ceil(lo / step - 1e-9) * step; v <= hi + 1e-9; v += step) ticks.push({ value: v, label: v.toFixed(digits) });
