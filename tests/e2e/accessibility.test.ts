@@ -1,21 +1,6 @@
-import AxeBuilder from '@axe-core/playwright';
-import { expect, test, type Page } from '@playwright/test';
+import { expect, test } from '@playwright/test';
+import { expectAccessible } from './axe';
 import { plannedSession, signUp, uniqueEmail } from './helpers';
-
-// WCAG 2 A/AA rules checked by axe-core; in the dark theme only contrast, which is all a theme
-// changes (look.md asks for AA contrast in both).
-async function expectAccessible(page: Page, path: string) {
-	await page.goto(path);
-	for (const colorScheme of ['light', 'dark'] as const) {
-		await page.emulateMedia({ colorScheme });
-		const axe = new AxeBuilder({ page });
-		if (colorScheme === 'dark') axe.withRules(['color-contrast', 'link-in-text-block']);
-		else axe.withTags(['wcag2a', 'wcag2aa', 'best-practice']);
-		const { violations } = await axe.analyze();
-		const found = violations.map((v) => `${v.id} (${v.impact}) at ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`);
-		expect(found, `${path} in the ${colorScheme} theme`).toEqual([]);
-	}
-}
 
 // axe takes a few seconds a page on two shared cores: these tests get more than the default 30 s.
 test('the signed-out pages pass axe in light and dark', async ({ page }) => {
@@ -66,7 +51,7 @@ test('the session pages pass axe in light and dark, the run screen on a phone to
 	const slug = await signUp(page, { name: 'Sam Session', email: uniqueEmail('a11y-session'), workshop: 'Session Access Bench' });
 	const sessionId = await plannedSession(page, slug);
 	const session = `/w/${slug}/sessions/${sessionId}`;
-	for (const path of [`/w/${slug}/sessions`, `/w/${slug}/sessions/new`, session, `${session}/plan`, `${session}/upload`, `${session}/devices`]) {
+	for (const path of [`/w/${slug}/sessions`, `/w/${slug}/sessions/new`, session, `${session}/plan`, `${session}/upload`, `${session}/devices`, `${session}/report`]) {
 		await expectAccessible(page, path);
 	}
 	await page.setViewportSize({ width: 390, height: 844 });
