@@ -8,6 +8,7 @@ import { load as labelsLoad } from '../../src/routes/(app)/w/[workshop=slug]/pac
 import { load as scanLoad } from '../../src/routes/(app)/w/[workshop=slug]/packs/[packId=id]/g/[[group=num]]/+page.server';
 import { db } from '$lib/server/db';
 import { chargeSessions } from '$lib/server/db/schema';
+import { packLabels } from '$lib/server/pack-labels';
 import { createPack } from '$lib/server/packs';
 import type { Member } from '$lib/server/auth/permissions';
 import { joinAs, memberOf, packFixture, signUpOwner } from './helpers';
@@ -21,9 +22,10 @@ function event<E>(who: Member | null, path: string, params: Record<string, strin
 	return { locals: { user: who?.user ?? null, session: null }, params, url } as unknown as E;
 }
 
-/** The sheet as `who` loads it (a thrown error or redirect comes back as the value). */
+/** The sheet as `who` loads it (a refusal is thrown). */
 async function sheet(who: Member, slug: string, packId: string) {
-	return labelsLoad(event<LabelsEvent>(who, `/w/${slug}/packs/${packId}/labels`, { workshop: slug, packId }));
+	const data = await labelsLoad(event<LabelsEvent>(who, `/w/${slug}/packs/${packId}/labels`, { workshop: slug, packId }));
+	return data as Awaited<ReturnType<typeof packLabels>>;
 }
 
 /** Where the scan route sends `who`: { status, location } of the redirect or error it throws. */

@@ -41,7 +41,9 @@ export async function packLabels(member: Member, packId: string) {
 			const url = `${origin}${path}`;
 			// Level M survives a scuff or a thumbprint on the label; a 2-module quiet zone is enough
 			// beside the label's own white margin.
-			const svg = await QRCode.toString(url, { type: 'svg', errorCorrectionLevel: 'M', margin: 2 });
+			const code = await QRCode.toString(url, { type: 'svg', errorCorrectionLevel: 'M', margin: 2 });
+			// The page names the code (role img with the link); the drawing itself stays out of the way.
+			const svg = code.replace('<svg ', '<svg aria-hidden="true" focusable="false" ');
 			return { group, url, shortUrl: `${host}${path}`, svg };
 		})
 	);
