@@ -217,8 +217,15 @@ describe('the pack history', () => {
 		const health1 = h.health.find((x) => x.index === 1)!;
 		expect(health1.capacityAh).toBeCloseTo(3.7541, 3);
 		expect(health1.resistanceMilliohms).toBeCloseTo(25, 6);
-		// Two capacities at most: no fade forecast, and the page says what is missing.
-		expect(health1.lines.join(' ')).toMatch(/No fade forecast yet: it needs a capacity counted at three charges or more \(1 so far\)/);
+		expect(health1.capacityFrom).toBe('Session A');
+		// One capacity: no fade forecast, and the page says what is missing.
+		expect(health1.fade).toBeNull();
+		expect(health1.notes).toContain('No fade forecast yet: it needs a capacity counted at three charges or more.');
+		// Group 3 was never charged on its own with readings around its start: what to log, in words.
+		const health3 = h.health.find((x) => x.index === 3)!;
+		expect(health3.capacityAh).toBeNull();
+		expect(health3.resistanceMilliohms).toBeNull();
+		expect(health3.notes.join(' ')).toMatch(/take a rest reading of each group before and after the next charge/);
 	});
 
 	it('lets a viewer read the history of their own pack only', async () => {

@@ -85,11 +85,16 @@ export type HistorySession = {
 
 export type GroupHealth = {
 	index: number;
-	/** Newest capacity counted, and at which session. */
+	/** Newest capacity counted (Ah per group), and the session it was counted in. */
 	capacityAh: number | null;
+	capacityFrom: string | null;
+	/** Newest charge resistance (mΩ per group), and the session it was read in. */
 	resistanceMilliohms: number | null;
-	/** A sentence each: capacity, resistance, fade; what is missing where a figure cannot be had. */
-	lines: string[];
+	resistanceFrom: string | null;
+	/** "At this rate group 7 reaches 80 % of its first capacity in about N charges", when the engine gives it. */
+	fade: string | null;
+	/** What is missing for a figure, in words that say what to log (the same words for every group where it is the same). */
+	notes: string[];
 };
 
 export type Finding = { index: number; text: string };
@@ -272,7 +277,7 @@ export async function loadPackHistory(member: Member, packId: string, now = new 
 		targetVolts: s.target_volts === null ? null : Number(s.target_volts),
 		startedAt: new Date(s.started_at),
 		endedAt: s.ended_at === null ? null : new Date(s.ended_at),
-		groups: figuresOf(s.id, groups, stepRows, spanRows, chemistry, pack.series)
+		groups: figuresOf(s.id, groups, stepRows, spanRows, chemistry)
 	}));
 	const newest = sessionRows[sessionRows.length - 1];
 	const limits = sessionLimits({
@@ -292,8 +297,7 @@ function figuresOf(
 	groups: { id: string; index: number }[],
 	stepRows: StepRow[],
 	spanRows: SpanRow[],
-	chemistry: Chemistry,
-	series: number
+	chemistry: Chemistry
 ): GroupFigures[] {
 	return groups.flatMap((g) => {
 		const steps = stepRows.filter((r) => r.session_id === sessionId && r.group_id === g.id);
@@ -353,7 +357,6 @@ function figuresOf(
 				break;
 			}
 		}
-		void series;
 
 		return [
 			{
@@ -376,6 +379,9 @@ function figuresOf(
 
 const mv = (volts: number) => Math.round(Math.abs(volts) * 1000);
 const ahText = (ah: number) => `${Math.abs(ah).toFixed(2)}\u2009Ah`;
+
+/** "a, b and c". */
+const listed = (parts: string[]) => (parts.length < 2 ? parts.join('') : `${parts.slice(0, -1).join(', ')} and ${parts.at(-1)}`);
 
 /** Mean of the others' values (those that have one); null without another. */
 function othersMean(values: Map<number, number>, index: number): number | null {
@@ -425,8 +431,8 @@ export function judge(sessions: HistorySession[], driftLimitVolts: number | null
 			// Within 5 mV (and under 1 % of capacity) nothing stands out: a meter's noise and the rest's spread.
 			const standsOut = basis === capacity ? Math.abs(lowestGap) >= 0.01 * Math.abs(othersMean(capacity, lowest)!) : mv(lowestGap) > 5;
 			weakest = standsOut
-				? { index: lowest, text: `Group ${lowest} is the weakest: in “${when}” ${parts.join(', ')}.` }
-				: { index: lowest, text: `No group stands apart in “${when}”: the lowest, group ${lowest}, is within the meter's spread (${parts.join(', ')}).` };
+				? { index: lowest, text: `Group ${lowest} is the weakest: in “${when}” ${listed(parts)}.` }
+				: { index: lowest, text: `No group stands apart in “${when}”: the lowest, group ${lowest}, is within the meter's spread (${listed(parts)}).` };
 		}
 	}
 
@@ -457,31 +463,38 @@ export function judge(sessions: HistorySession[], driftLimitVolts: number | null
 	return { weakest, drifting, summaryNote };
 }
 
-/** Each group's health in sentences: capacity, resistance, fade; what is missing otherwise. */
+/** Each group's health: capacity, resistance, fade where the engine gives them; what is missing otherwise. */
 function healthOf(sessions: HistorySession[], groups: { id: string; index: number }[]): GroupHealth[] {
 	return groups.map((g) => {
 		const mine = sessions.map((s, n) => ({ n, s, f: s.groups.find((x) => x.index === g.index) })).filter((x) => x.f);
-		const lines: string[] = [];
+		const notes: string[] = [];
 		const withCapacity = mine.filter((x) => x.f!.capacityAh !== null);
 		const lastCap = withCapacity.at(-1);
-		if (lastCap) lines.push(`Capacity ${lastCap.f!.capacityAh!.toFixed(2)}\u2009Ah, counted between the rest readings before and after “${lastCap.s.name || 'a session'}”.`);
-		else {
+		if (!lastCap) {
 			const why = mine.at(-1)?.f?.capacityNote;
-			lines.push(`Capacity not counted yet${why ? ` (${why})` : ''}: take a rest reading of each group before and after the next charge, with the current logged in between.`);
+			notes.push(`No capacity counted yet${why ? ` (${why})` : ''}: take a rest reading of each group before and after the next charge, with the current logged in between.`);
 		}
-		const withR = mine.filter((x) => x.f!.resistanceMilliohms !== null);
-		const lastR = withR.at(-1);
-		if (lastR) lines.push(`Charge resistance ${lastR.f!.resistanceMilliohms!.toFixed(1)}\u2009mΩ per group, from the voltage jump when its current started in “${lastR.s.name || 'a session'}”.`);
-		else lines.push('Charge resistance not measured yet: log the group’s volts just before its step starts and volts with the current within two minutes after.');
+		const lastR = mine.filter((x) => x.f!.resistanceMilliohms !== null).at(-1);
+		if (!lastR) notes.push('No charge resistance yet: log the group’s volts just before its step starts, and its volts with the current within two minutes after.');
+		let fade: string | null = null;
 		if (withCapacity.length >= 3) {
-			const fade = chargesUntilFade(withCapacity.map((x) => ({ charge: x.n, capacityAh: x.f!.capacityAh! })));
-			if (fade.ok) lines.push(`At this rate group ${g.index} reaches 80 % of its first capacity in about ${Math.round(fade.chargesFromLast)} charges.`);
-			else lines.push(`No fade forecast: ${fade.detail ?? fade.reason}`);
-			const trend = linearTrend(withCapacity.map((x) => ({ x: x.n, y: x.f!.capacityAh! })));
-			if (trend.ok) lines.push(`Capacity trend ${trend.slope >= 0 ? '+' : '−'}${Math.abs(trend.slope).toFixed(3)} ± ${trend.slopeStdError.toFixed(3)}\u2009Ah per charge.`);
+			const result = chargesUntilFade(withCapacity.map((x) => ({ charge: x.n, capacityAh: x.f!.capacityAh! })));
+			if (result.ok) {
+				const trend = linearTrend(withCapacity.map((x) => ({ x: x.n, y: x.f!.capacityAh! })));
+				const slope = trend.ok ? ` (${trend.slope.toFixed(3)} ± ${trend.slopeStdError.toFixed(3)}\u2009Ah per charge)` : '';
+				fade = `At this rate group ${g.index} reaches 80 % of its first capacity in about ${Math.round(result.chargesFromLast)} charges${slope}.`;
+			} else notes.push(`No fade forecast: ${result.detail ?? result.reason}`);
 		} else {
-			lines.push(`No fade forecast yet: it needs a capacity counted at three charges or more (${withCapacity.length} so far).`);
+			notes.push('No fade forecast yet: it needs a capacity counted at three charges or more.');
 		}
-		return { index: g.index, capacityAh: lastCap?.f!.capacityAh ?? null, resistanceMilliohms: lastR?.f!.resistanceMilliohms ?? null, lines };
+		return {
+			index: g.index,
+			capacityAh: lastCap?.f!.capacityAh ?? null,
+			capacityFrom: lastCap ? lastCap.s.name || 'a session' : null,
+			resistanceMilliohms: lastR?.f!.resistanceMilliohms ?? null,
+			resistanceFrom: lastR ? lastR.s.name || 'a session' : null,
+			fade,
+			notes
+		};
 	});
 }
