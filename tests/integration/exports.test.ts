@@ -13,7 +13,7 @@ import { guessLoggerMapping, readLoggerHeader } from '$lib/logger-csv';
 import type { Member } from '$lib/server/auth/permissions';
 import { addCells } from '$lib/server/cells';
 import { db } from '$lib/server/db';
-import { alerts, packGroups, packs, readings } from '$lib/server/db/schema';
+import { alerts, packGroups, packs, readings, voltageChecks } from '$lib/server/db/schema';
 import { sessionReadingsCsv } from '$lib/server/exports';
 import { newId } from '$lib/server/ids';
 import { importLoggerCsv, saveLoggerMapping } from '$lib/server/sessions/logger';
@@ -228,6 +228,15 @@ describe('who may download what', () => {
 		await logSome(f);
 		await addCells(f.owner, f.pack.id, [{ label: 'C1', volts: 3.6, resistanceMilliOhms: null, capacityAh: null }]);
 		const second = await addSession(f.owner, f.pack.id, 'done');
+		await db.insert(voltageChecks).values({
+			id: newId(),
+			workshopId: f.owner.workshop.id,
+			packId: f.pack.id,
+			groupId: f.groups[2].id,
+			volts: 3.412,
+			measuredAt: new Date('2026-11-05T20:00:00Z'),
+			enteredBy: f.owner.user.id
+		});
 		const response = await get(zipRoute.GET, f.owner, `/w/${f.ws}/workshop/export.zip`, { workshop: f.ws });
 		expect(response.status).toBe(200);
 		expect(response.headers.get('content-type')).toBe('application/zip');
@@ -246,5 +255,7 @@ describe('who may download what', () => {
 		const rows = Papa.parse<Record<string, string>>(entries.get(mine)!.toString('utf8'), { header: true, skipEmptyLines: true }).data;
 		expect(rows).toHaveLength(5);
 		expect(entries.get('cells/Test-pack.csv')!.toString('utf8')).toMatch(/^label,placement,group,arrival_volts_V/);
+		const checks = Papa.parse<Record<string, string>>(entries.get('voltage-checks.csv')!.toString('utf8').replace(/^\uFEFF/, ''), { header: true, skipEmptyLines: true }).data;
+		expect(checks.map((c) => [c.group, c.volts_V, c.cell])).toEqual([['3', '3.412', '']]);
 	});
 });

@@ -10,7 +10,7 @@ import { can, roleLabels } from '$lib/permissions';
 import { requirePermission, type Member } from '../auth/permissions';
 import { listBatch, type Batch } from '../cells';
 import { db } from '../db';
-import { alerts, auditEvents, chargeSessions, deviceTokens, packGroups, packs, readings, sessionSteps, users } from '../db/schema';
+import { alerts, auditEvents, cells, chargeSessions, deviceTokens, packGroups, packs, readings, sessionSteps, users, voltageChecks } from '../db/schema';
 import { getSession } from '../sessions/core';
 import { fileNamePart, toCsv, type CsvValue } from './csv';
 
@@ -244,6 +244,8 @@ export const STEP_COLUMNS = [
 	'status'
 ] as const;
 export const AUDIT_COLUMNS = ['at', 'who', 'kind', 'subject_type', 'subject_id', 'before', 'after', 'pack_id', 'session_id', 'event_id'] as const;
+/** The self-discharge check's re-measures at rest: a loose cell's (label) or a group's (number). */
+export const VOLTAGE_CHECK_COLUMNS = ['pack', 'cell', 'group', 'volts_V', 'measured_at', 'entered_by', 'pack_id', 'check_id'] as const;
 
 const owner = alias(users, 'pack_owner');
 const watch = alias(users, 'watch_user');
@@ -253,7 +255,7 @@ export async function workshopTables(member: Member) {
 	requireOwner(member);
 	const workshopId = member.workshop.id;
 	const tz = member.workshop.timeZone;
-	const [packRows, sessionRows, auditRows] = await Promise.all([
+	const [packRows, sessionRows, auditRows, checkRows] = await Promise.all([
 		db
 			.select({ pack: packs, ownerName: owner.name })
 			.from(packs)
@@ -267,7 +269,16 @@ export async function workshopTables(member: Member) {
 			.leftJoin(watch, eq(watch.id, chargeSessions.watchUserId))
 			.where(eq(chargeSessions.workshopId, workshopId))
 			.orderBy(asc(chargeSessions.plannedStart), asc(chargeSessions.id)),
-		db.select().from(auditEvents).where(eq(auditEvents.workshopId, workshopId)).orderBy(desc(auditEvents.at), desc(auditEvents.id))
+		db.select().from(auditEvents).where(eq(auditEvents.workshopId, workshopId)).orderBy(desc(auditEvents.at), desc(auditEvents.id)),
+		db
+			.select({ check: voltageChecks, packName: packs.name, cellLabel: cells.label, groupIndex: packGroups.index, by: users.name })
+			.from(voltageChecks)
+			.innerJoin(packs, eq(packs.id, voltageChecks.packId))
+			.leftJoin(cells, eq(cells.id, voltageChecks.cellId))
+			.leftJoin(packGroups, eq(packGroups.id, voltageChecks.groupId))
+			.leftJoin(users, eq(users.id, voltageChecks.enteredBy))
+			.where(eq(voltageChecks.workshopId, workshopId))
+			.orderBy(asc(packs.name), asc(voltageChecks.measuredAt), asc(voltageChecks.id))
 	]);
 	const sessionIds = sessionRows.map((r) => r.s.id);
 	const stepRows = sessionIds.length
@@ -328,6 +339,11 @@ export async function workshopTables(member: Member) {
 				t.actualEnd,
 				t.status
 			]),
+			tz
+		),
+		voltageChecksCsv: toCsv(
+			VOLTAGE_CHECK_COLUMNS,
+			checkRows.map(({ check: c, packName, cellLabel, groupIndex, by }) => [packName, cellLabel, groupIndex, c.volts, c.measuredAt, by, c.packId, c.id]),
 			tz
 		),
 		auditCsv: toCsv(

@@ -21,6 +21,7 @@ sessions.csv   every charge session (stop_reason says why one was stopped)
 steps.csv      every step of every session's plan, planned and actual times
 alerts.csv     the alert log with acknowledgements
 audit.csv      who changed what, when (before and after as JSON)
+voltage-checks.csv  the self-discharge check's re-measures at rest (a loose cell or a group)
 cells/         one file per pack: its cells in label order
 readings/      one file per session: its readings. volts_V is per cell for a group and the
                pack's for a whole-pack row; such a file uploads back into a session through
@@ -67,7 +68,8 @@ export async function workshopZip(member: Member, now = new Date()): Promise<{ f
 			['sessions.csv', tables.sessionsCsv],
 			['steps.csv', tables.stepsCsv],
 			['alerts.csv', (await alertsCsv(member)).csv],
-			['audit.csv', tables.auditCsv]
+			['audit.csv', tables.auditCsv],
+			['voltage-checks.csv', tables.voltageChecksCsv]
 		];
 		for (const [name, text] of fixed) if (!(await addEntry(archive, unique(name), text, now))) return;
 		for (const pack of tables.packs) {
