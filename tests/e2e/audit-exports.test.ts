@@ -1,31 +1,19 @@
 import { readFileSync } from 'node:fs';
 import { expect, test } from '@playwright/test';
-import { demoServerUnavailable, startDemoServer, type DemoServer } from './demo-server';
+import { useDemoServer } from './demo-server';
 import { signIn } from './helpers';
 
 // The demo workshop's owner on a phone: the audit trail from the workshop page (the technician's
 // acknowledgement of the drift alert with its note), a filter by kind, and the whole-workshop zip
 // downloaded from the same page; the pack's owner (the demo's viewer) downloads a session's readings.
-test.describe.configure({ mode: 'serial' });
 test.use({ viewport: { width: 390, height: 844 } });
 
-let demo: DemoServer | undefined;
-
-test.beforeAll(async () => {
-	test.setTimeout(180_000);
-	const why = demoServerUnavailable();
-	test.skip(why !== null, why ?? '');
-	demo = await startDemoServer();
-});
-
-test.afterAll(async () => {
-	await demo?.stop();
-});
+const demo = useDemoServer();
 
 test('the owner reads the audit trail on a phone, filters it and downloads the workshop', async ({ browser }) => {
-	const context = await browser.newContext({ baseURL: demo!.baseURL, viewport: { width: 390, height: 844 }, acceptDownloads: true });
+	const context = await browser.newContext({ baseURL: demo().baseURL, viewport: { width: 390, height: 844 }, acceptDownloads: true });
 	const page = await context.newPage();
-	await signIn(page, 'owner@larkfield.test', demo!.password);
+	await signIn(page, 'owner@larkfield.test', demo().password);
 	await expect(page).toHaveURL(/\/w\/larkfield\//, { timeout: 20_000 });
 	await page.goto('/w/larkfield/workshop');
 	await page.getByRole('link', { name: 'Audit trail' }).click();
@@ -54,9 +42,9 @@ test('the owner reads the audit trail on a phone, filters it and downloads the w
 });
 
 test('the pack’s owner downloads a session’s readings from the session page', async ({ browser }) => {
-	const context = await browser.newContext({ baseURL: demo!.baseURL, acceptDownloads: true });
+	const context = await browser.newContext({ baseURL: demo().baseURL, acceptDownloads: true });
 	const page = await context.newPage();
-	await signIn(page, 'viewer@larkfield.test', demo!.password);
+	await signIn(page, 'viewer@larkfield.test', demo().password);
 	await expect(page).toHaveURL(/\/w\/larkfield\//, { timeout: 20_000 });
 	await page.goto('/w/larkfield/sessions');
 	await page.getByRole('link', { name: /Charge after a month of riding/ }).first().click();

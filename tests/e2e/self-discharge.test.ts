@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { demoServerUnavailable, startDemoServer, type DemoServer } from './demo-server';
+import { useDemoServer } from './demo-server';
 import { signIn } from './helpers';
 
 // The demo's self-discharge check of the cargo trike on a phone: its owner (the demo's viewer)
@@ -7,23 +7,11 @@ import { signIn } from './helpers';
 // enters a round of group volts with the keypad's Enter moving down the list, and a bad value
 // saves nothing.
 test.use({ viewport: { width: 390, height: 844 } });
-test.describe.configure({ mode: 'serial' });
 
-let demo: DemoServer | undefined;
-
-test.beforeAll(async () => {
-	test.setTimeout(180_000);
-	const why = demoServerUnavailable();
-	test.skip(why !== null, why ?? '');
-	demo = await startDemoServer();
-});
-
-test.afterAll(async () => {
-	await demo?.stop();
-});
+const demo = useDemoServer();
 
 async function openCheck(page: import('@playwright/test').Page, email: string) {
-	await signIn(page, email, demo!.password);
+	await signIn(page, email, demo().password);
 	await expect(page).toHaveURL(/\/w\/larkfield\//, { timeout: 20_000 });
 	await page.goto('/w/larkfield/packs');
 	await page.getByRole('link', { name: 'Cargo trike pack' }).first().click();
@@ -32,7 +20,7 @@ async function openCheck(page: import('@playwright/test').Page, email: string) {
 }
 
 test("the pack's owner reads that group 7 loses charge faster, with the numbers", async ({ browser }) => {
-	const page = await (await browser.newContext({ baseURL: demo!.baseURL })).newPage();
+	const page = await (await browser.newContext({ baseURL: demo().baseURL })).newPage();
 	await openCheck(page, 'viewer@larkfield.test');
 	const caution = page.getByRole('note', { name: 'Loses charge faster' });
 	await expect(caution).toContainText(/G7 lost \d+(\.\d)? mV\/day \(\d+ mV in 3\.5 days\); the batch's median is \d(\.\d)? mV\/day\./);
@@ -42,7 +30,7 @@ test("the pack's owner reads that group 7 loses charge faster, with the numbers"
 });
 
 test('the technician enters a round of group volts; one bad value saves nothing', async ({ browser }) => {
-	const page = await (await browser.newContext({ baseURL: demo!.baseURL })).newPage();
+	const page = await (await browser.newContext({ baseURL: demo().baseURL })).newPage();
 	await openCheck(page, 'technician@larkfield.test');
 	const g1 = page.getByRole('textbox', { name: 'G1 volts' });
 	await g1.fill('4,141');
