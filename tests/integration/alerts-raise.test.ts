@@ -6,11 +6,11 @@
  * maximum 4.20 + 0.05).
  */
 import { randomUUID } from 'node:crypto';
-import { and, eq } from 'drizzle-orm';
+import { and, eq, sql } from 'drizzle-orm';
 import { afterAll, describe, expect, it } from 'vitest';
 import { acknowledgeAlert } from '$lib/server/alerts/inbox';
 import { deliverOne, escalateAlerts, runAlertClock, sweepOutbox } from '$lib/server/alerts/deliver';
-import { evaluateReadingsInTx } from '$lib/server/alerts/raise';
+import { evaluateReadingsInTx, readingsUnchanged } from '$lib/server/alerts/raise';
 import type { Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
 import { alertDeliveries, alerts, auditEvents, chargeSessions, memberships, pushSubscriptions, readings } from '$lib/server/db/schema';
@@ -158,6 +158,43 @@ describe('alerts raised on readings', () => {
 		expect((await Promise.all(posts)).every((r) => r.ok && r.stored === 1)).toBe(true);
 		const after = await overVoltage();
 		expect(after.map((a) => [a.groupId, a.clearedAt])).toEqual([[groups[3].id, null]]);
+	});
+
+	it('one statement tells when judging would change nothing; a condition that changes, or another judgement under way, sends it to the row lock', async () => {
+		const { owner, session, pack, groups } = await sessionFixture();
+		const at = Date.now();
+		await log(owner, session.id, [reading(2, { volts: 3.9 }, new Date(at))]);
+		expect(await readingsUnchanged(db, session.id)).toBe(true);
+		// A reading over the limit stored without judging: raising it is a change.
+		await db.insert(readings).values({
+			sessionId: session.id,
+			packId: pack.id,
+			groupId: groups[1].id,
+			takenAt: new Date(at + 1000),
+			volts: 4.3,
+			source: 'hand',
+			enteredBy: owner.user.id,
+			clientId: randomUUID()
+		});
+		expect(await readingsUnchanged(db, session.id)).toBe(false);
+		await db.transaction((tx) => evaluateReadingsInTx(tx, session.id));
+		// Raised and just seen: nothing to change.
+		expect(await readingsUnchanged(db, session.id)).toBe(true);
+		// While another judgement holds the session's row, the answer is never "unchanged".
+		let release!: () => void;
+		const held = new Promise<void>((r) => (release = r));
+		let locked!: () => void;
+		const lockTaken = new Promise<void>((r) => (locked = r));
+		const holder = db.transaction(async (tx) => {
+			await tx.execute(sql`select 1 from charge_sessions where id = ${session.id} for no key update`);
+			locked();
+			await held;
+		});
+		await lockTaken;
+		expect(await readingsUnchanged(db, session.id)).toBe(false);
+		release();
+		await holder;
+		expect(await readingsUnchanged(db, session.id)).toBe(true);
 	});
 
 	it('readings left unjudged (an instance stopped after the commit) are judged by the alert clock, and by a repeat post', async () => {

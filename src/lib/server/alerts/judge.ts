@@ -8,13 +8,14 @@
  *
  * What a crash between a post's commit and its judgement leaves is judged later: a client that got
  * no answer sends its readings again (same client ids), and a repeat is judged too; the alert clock
- * judges every running session's readings each minute (deliver.ts, runAlertClock). Judgements of
- * one session never overlap, in this process or across instances: evaluateReadingsInTx locks the
- * session row first.
+ * judges every running session's readings each minute (deliver.ts, runAlertClock). A judgement
+ * first reads in one statement whether anything would change (readingsUnchanged: usually not) and
+ * only then judges under the session's row lock, so judgements that write never overlap, in this
+ * process or across instances.
  */
 import { db } from '../db';
 import { afterCommit } from './deliver';
-import { evaluateReadingsInTx } from './raise';
+import { evaluateReadingsInTx, readingsUnchanged } from './raise';
 
 type Slot = { running: boolean; waiting: (() => void)[] };
 const slots = new Map<string, Slot>();
@@ -39,8 +40,11 @@ async function drain(sessionId: string, slot: Slot): Promise<void> {
 			// Everyone waiting now committed before this judgement's transaction begins.
 			const served = slot.waiting.splice(0);
 			try {
-				const changes = await db.transaction((tx) => evaluateReadingsInTx(tx, sessionId));
-				await afterCommit(changes);
+				// Most judgements change nothing: one statement tells. Otherwise under the row lock.
+				if (!(await readingsUnchanged(db, sessionId))) {
+					const changes = await db.transaction((tx) => evaluateReadingsInTx(tx, sessionId));
+					await afterCommit(changes);
+				}
 			} catch (e) {
 				// The readings are stored; the alert clock judges them again within a minute.
 				console.error(`Readings of session ${sessionId} could not be judged now; the alert clock will.`, e);

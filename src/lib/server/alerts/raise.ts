@@ -66,11 +66,15 @@ function fromRow<T extends PgTable>(table: T, json: Record<string, unknown>): T[
 	return out as T['$inferSelect'];
 }
 
+type Runner = Pick<Tx, 'execute'>;
+
 async function loadRunInput(
-	tx: Tx,
+	tx: Runner,
 	sessionId: string,
-	now: Date
-): Promise<{ head: SessionHead; input: RunInput; active: ActiveAlert[] } | null> {
+	now: Date,
+	/** Also answer whether no judgement holds the session's row right now (`free`). */
+	probeLock = false
+): Promise<{ head: SessionHead; input: RunInput; active: ActiveAlert[]; lastSeen: Map<string, number>; free: boolean } | null> {
 	// One statement: this runs on every post. The newest readings are read in index order
 	// (readings_session_group_taken_idx) with no tie-break on id: a logger sending many readings
 	// with one time stamp would make a tie-break sort them all. The session, pack, cell spec and
@@ -86,8 +90,9 @@ async function loadRunInput(
 					'actualStart', st.actual_start, 'actualEnd', st.actual_end, 'status', st.status,
 					'restReadingDueAt', st.rest_reading_due_at) order by st.position), '[]')
 				from session_steps st where st.session_id = ${sessionId}) as steps,
-			(select coalesce(json_agg(json_build_array(a.id, a.kind, a.group_id, a.severity)), '[]')
+			(select coalesce(json_agg(json_build_array(a.id, a.kind, a.group_id, a.severity, a.last_seen_at)), '[]')
 				from alerts a where a.session_id = ${sessionId} and a.cleared_at is null) as active,
+			${probeLock ? sql`exists (select 1 from charge_sessions f where f.id = ${sessionId} for no key update skip locked)` : sql`true`} as free,
 			(select coalesce(json_agg(json_build_array(r.id, r.group_id, r.step_id, r.taken_at, r.volts, r.amps, r.temp_c, r.ambient_c)), '[]')
 				from (
 					select x.* from charge_sessions s
@@ -115,8 +120,9 @@ async function loadRunInput(
 		profile: Record<string, unknown> | null;
 		groups: [string, number][];
 		steps: Record<string, unknown>[];
-		active: [string, string, string | null, AlertSeverity][];
+		active: [string, string, string | null, AlertSeverity, string][];
 		readings: unknown[][];
+		free: boolean;
 	};
 	const data = rest as unknown as Json;
 	const date = (v: unknown) => (v === null || v === undefined ? null : new Date(v as string));
@@ -160,7 +166,9 @@ async function loadRunInput(
 	return {
 		head: { id: session.id, workshopId: session.workshopId, packId: session.packId, status: session.status, limits: sessionLimits(input) },
 		input,
-		active: data.active.map(([id, kind, groupId, severity]) => ({ id, kind, groupId, severity }))
+		active: data.active.map(([id, kind, groupId, severity]) => ({ id, kind, groupId, severity })),
+		lastSeen: new Map(data.active.map(([id, , , , seen]) => [id, Date.parse(seen)])),
+		free: data.free
 	};
 }
 
@@ -182,7 +190,35 @@ export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new 
 	await tx.execute(sql`select 1 from charge_sessions where id = ${sessionId} for no key update`);
 	const loaded = await loadRunInput(tx, sessionId, now);
 	if (!loaded || !loaded.head.limits) return none();
-	const { head, input, active } = loaded;
+	return storeConditions(tx, loaded.head, readingConditions(loaded.input), READING_KINDS, now, loaded.active);
+}
+
+/** How often an alert still found is noted as seen (storeConditions). */
+const SEEN_EVERY_MS = 60_000;
+
+/**
+ * True when judging the session's newest readings would change nothing stored: what they show
+ * matches its active alerts, none of which is due to be noted as seen, and no other judgement of
+ * the session was running when this one read (so none is about to change the alerts it read). One
+ * statement, no transaction: the common answer for a logger posting every second. On false the
+ * caller judges under the session's row lock (evaluateReadingsInTx).
+ */
+export async function readingsUnchanged(run: Runner, sessionId: string, now = new Date()): Promise<boolean> {
+	const loaded = await loadRunInput(run, sessionId, now, true);
+	if (!loaded || !loaded.head.limits) return true;
+	if (!loaded.free) return false;
+	const found = readingConditions(loaded.input);
+	const plan = reconcileAlerts(
+		loaded.active,
+		found.map((f) => ({ ...f, groupId: f.groupRowId })),
+		{ kinds: READING_KINDS }
+	);
+	const due = now.getTime() - SEEN_EVERY_MS;
+	return plan.raise.length === 0 && plan.clear.length === 0 && plan.seen.every((id) => (loaded.lastSeen.get(id) ?? 0) >= due);
+}
+
+/** What the run screen's rules find in the newest readings, keyed by the group's row id. */
+function readingConditions(input: RunInput): Found[] {
 	const { drafts } = evaluateRun(input, { draftsOnly: true });
 	const idOfIndex = new Map(input.groups.map((g) => [String(g.index), g.id]));
 	const newestOf = (groupId: string | null) => {
@@ -203,7 +239,7 @@ export async function evaluateReadingsInTx(tx: Tx, sessionId: string, now = new 
 			readingId: newestOf(null)
 		}))
 	];
-	return storeConditions(tx, head, found, READING_KINDS, now, active);
+	return found;
 }
 
 /**
@@ -275,7 +311,7 @@ export async function storeConditions(
 		await tx
 			.update(alerts)
 			.set({ lastSeenAt: now })
-			.where(and(inArray(alerts.id, plan.seen), lt(alerts.lastSeenAt, new Date(now.getTime() - 60_000))));
+			.where(and(inArray(alerts.id, plan.seen), lt(alerts.lastSeenAt, new Date(now.getTime() - SEEN_EVERY_MS))));
 	}
 	for (const f of plan.raise) {
 		const unit = alertUnit(f.kind, head.limits ? { threshold: f.threshold, limits: head.limits } : undefined);
