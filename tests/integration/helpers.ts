@@ -74,11 +74,14 @@ export async function packFixture(opts: { series: number; parallel: number; chem
 		resistanceMilliOhms: 16
 	});
 	if (!spec.ok) throw new Error(spec.message);
+	const pack = await addPack(member, { name: 'Test pack', cellSpecId: spec.spec.id, series: opts.series, parallel: opts.parallel });
+	return { owner: member, pack, spec: spec.spec };
+}
+
+/** Another pack of the member's workshop (building, no BMS, no owner), or throws. */
+export async function addPack(member: Member, opts: { name: string; cellSpecId: string; series: number; parallel: number }) {
 	const pack = await createPack(member, {
-		name: 'Test pack',
-		cellSpecId: spec.spec.id,
-		series: opts.series,
-		parallel: opts.parallel,
+		...opts,
 		bmsFitted: false,
 		bmsBalanceAmps: null,
 		status: 'building',
@@ -88,7 +91,7 @@ export async function packFixture(opts: { series: number; parallel: number; chem
 		notes: ''
 	});
 	if (!pack.ok) throw new Error(pack.message);
-	return { owner: member, pack: pack.pack, spec: spec.spec };
+	return pack.pack;
 }
 
 /** A request event for calling an API route's handler directly, as `who` (null: signed out). */

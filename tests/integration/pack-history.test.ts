@@ -39,10 +39,9 @@ import { describe, expect, it } from 'vitest';
 import { db } from '$lib/server/db';
 import { chargeSessions, packGroups, packs, readings, sessionSteps, type ChargeSession } from '$lib/server/db/schema';
 import { newId } from '$lib/server/ids';
-import { createPack } from '$lib/server/packs';
 import { loadPackHistory } from '$lib/server/sessions/history';
 import { load as loadHistoryPage } from '../../src/routes/(app)/w/[workshop=slug]/packs/[packId=id]/history/+page.server';
-import { joinAs, packFixture } from './helpers';
+import { addPack, joinAs, packFixture } from './helpers';
 
 const MIN = 60_000;
 const HOUR = 60 * MIN;
@@ -232,20 +231,7 @@ describe('the pack history', () => {
 		const { f } = await seed();
 		const viewer = await joinAs(f.owner, 'viewer');
 		await db.update(packs).set({ packOwnerId: viewer.user.id }).where(eq(packs.id, f.pack.id));
-		const other = await createPack(f.owner, {
-			name: 'Not theirs',
-			cellSpecId: f.spec.id,
-			series: 3,
-			parallel: 1,
-			bmsFitted: false,
-			bmsBalanceAmps: null,
-			status: 'building',
-			packOwnerId: '',
-			measuredPeakAmps: null,
-			measuredPeakNote: '',
-			notes: ''
-		});
-		if (!other.ok) throw new Error(other.message);
+		const other = await addPack(f.owner, { name: 'Not theirs', cellSpecId: f.spec.id, series: 3, parallel: 1 });
 
 		const pageAs = (packId: string) => {
 			const url = new URL(`http://127.0.0.1/w/${f.owner.workshop.slug}/packs/${packId}/history`);
@@ -256,7 +242,7 @@ describe('the pack history', () => {
 		expect(own.sessions).toHaveLength(3);
 		expect(own.weakest?.index).toBe(2);
 
-		const refused = await pageAs(other.pack.id).then(
+		const refused = await pageAs(other.id).then(
 			() => null,
 			(e: unknown) => e
 		);

@@ -9,9 +9,8 @@ import { load as scanLoad } from '../../src/routes/(app)/w/[workshop=slug]/packs
 import { db } from '$lib/server/db';
 import { chargeSessions } from '$lib/server/db/schema';
 import { packLabels } from '$lib/server/pack-labels';
-import { createPack } from '$lib/server/packs';
 import type { Member } from '$lib/server/auth/permissions';
-import { joinAs, memberOf, packFixture, signUpOwner } from './helpers';
+import { addPack, joinAs, memberOf, packFixture, signUpOwner } from './helpers';
 import { addSession } from './readings-fixture';
 
 type LabelsEvent = Parameters<typeof labelsLoad>[0];
@@ -109,21 +108,8 @@ describe('a scanned label', () => {
 
 		// A session of another pack of the same workshop never catches this pack's label.
 		await db.update(chargeSessions).set({ status: 'done' }).where(eq(chargeSessions.packId, pack.id));
-		const sibling = await createPack(owner, {
-			name: 'Sibling pack',
-			cellSpecId: spec.id,
-			series: 4,
-			parallel: 1,
-			bmsFitted: false,
-			bmsBalanceAmps: null,
-			status: 'building',
-			packOwnerId: '',
-			measuredPeakAmps: null,
-			measuredPeakNote: '',
-			notes: ''
-		});
-		if (!sibling.ok) throw new Error(sibling.message);
-		await addSession(owner, sibling.pack.id, 'running');
+		const sibling = await addPack(owner, { name: 'Sibling pack', cellSpecId: spec.id, series: 4, parallel: 1 });
+		await addSession(owner, sibling.id, 'running');
 		expect(await scan(owner, slug, pack.id, '2')).toMatchObject({ location: packPage });
 	});
 
