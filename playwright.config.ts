@@ -6,6 +6,8 @@ const isCI = Boolean(process.env.CI);
 
 export default defineConfig({
 	testDir: 'tests/e2e',
+	// One demo server for the run (the files that read the demo's finished sessions share it).
+	globalSetup: './tests/e2e/global-setup.ts',
 	outputDir: 'test-results/e2e',
 	forbidOnly: isCI,
 	retries: isCI ? 1 : 0,

@@ -101,14 +101,35 @@ export async function startDemoServer(): Promise<DemoServer> {
 	return { baseURL, password, stop };
 }
 
+/** Where the run's shared demo server listens (global-setup.ts), when it started one. */
+const SHARED_URL = 'E2E_DEMO_URL';
+const SHARED_PASSWORD = 'E2E_DEMO_PASSWORD';
+
 /**
- * For a test file: one demo server for the file's tests (started before the first, stopped after
- * the last; the tests are skipped where it cannot start). Call at the top of the file; the getter
- * answers inside a test.
+ * The whole run's demo server, started once by Playwright's global setup (global-setup.ts) when
+ * any test file uses it: starting one per file cost most of a minute of the run each.
+ */
+export async function startSharedDemoServer(): Promise<(() => Promise<void>) | undefined> {
+	if (demoServerUnavailable()) return undefined;
+	const demo = await startDemoServer();
+	process.env[SHARED_URL] = demo.baseURL;
+	process.env[SHARED_PASSWORD] = demo.password;
+	return demo.stop;
+}
+
+/**
+ * For a test file: the run's shared demo server, or else one of the file's own (started before
+ * the first test, stopped after the last; the tests are skipped where it cannot start). Call at
+ * the top of the file; the getter answers inside a test.
  */
 export function useDemoServer(): () => DemoServer {
 	let demo: DemoServer | undefined;
 	test.describe.configure({ mode: 'serial' });
+	const shared = process.env[SHARED_URL];
+	if (shared) {
+		const kept = { baseURL: shared, password: process.env[SHARED_PASSWORD] ?? '', stop: async () => {} };
+		return () => kept;
+	}
 	test.beforeAll(async () => {
 		test.setTimeout(180_000);
 		const why = demoServerUnavailable();

@@ -34,6 +34,8 @@ async function logRound(page: Page, volts: string[]) {
 }
 
 test('a technician runs a session on a phone and logs readings through a dropped connection', async ({ page, baseURL }) => {
+	// A long journey: sign-up, cell spec, pack, plan, the run, two rounds, offline and back, the stop.
+	test.setTimeout(90_000);
 	const slug = await signUp(page, { name: 'Rae Runner', email: uniqueEmail('runner'), workshop: 'Rae Bench' });
 	const sessionId = await plannedSession(page, slug);
 
