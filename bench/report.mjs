@@ -120,9 +120,9 @@ demo pack:
 
 - **device API**: \`POST /api/w/…/sessions/…/readings\` with \`Authorization: Bearer <device token>\`:
   JSON parse, zod checks of every row, token lookup, the session's status under a key-share lock,
-  one \`insert … on conflict do nothing\` over \`unnest()\`, the live-view notify, and in the same
-  transaction the alert rules on the session's newest readings (one statement reads their input,
-  \`src/lib/server/alerts/raise.ts\`). Rounds: ${i.apiRounds.map(whole).join(', ')} rows/s.
+  one \`insert … on conflict do nothing\` over \`unnest()\` with the live-view notify, then, before the
+  answer, the alert rules on the session's newest readings, one judgement shared by the posts that
+  arrive together (one statement tells whether anything changes; \`src/lib/server/alerts/judge.ts\`). Rounds: ${i.apiRounds.map(whole).join(', ')} rows/s.
 - **raw**: postgres.js multi-row \`insert into readings \${sql(rows)}\` of the same rows (4 connections).
   Rounds: ${i.rawRounds.map(whole).join(', ')} rows/s.
 
