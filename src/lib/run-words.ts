@@ -17,6 +17,16 @@ export const stateWords: Record<RunState, string> = {
 	idle: 'idle'
 };
 
+/** A session's status as the run screen, the report and the pack's history write it. */
+export const sessionStatusWords: Record<'draft' | 'planned' | 'running' | 'paused' | 'done' | 'stopped', string> = {
+	draft: 'Draft',
+	planned: 'Planned',
+	running: 'Running',
+	paused: 'Paused',
+	done: 'Done',
+	stopped: 'Stopped'
+};
+
 const THIN = '\u2009';
 const MINUS = '\u2212';
 
