@@ -15,11 +15,9 @@ import {
 	socFromRestVoltage,
 	PACK_STEP_ID,
 	type Channel,
-	type ChannelsPlan,
 	type Chemistry,
 	type HandsOnWindow,
 	type Limits,
-	type Plan,
 	type PlanGroup,
 	type PlanStep,
 	type PlanWarning
@@ -163,9 +161,6 @@ export type SessionPlan = {
 
 export type SessionPlanFailure = { ok: false; reason: string; message: string };
 
-/** The engine planner's own plan behind a one-at-a-time or channels session: the equipment what-if's baseline. */
-export type ChargePlan = { kind: 'one-at-a-time'; plan: Plan } | { kind: 'channels'; plan: ChannelsPlan };
-
 const MS_PER_HOUR = 3_600_000;
 /** Hands-on windows are laid out this many days ahead of the start (longer plans fail plainly). */
 export const PLAN_HORIZON_DAYS = 60;
@@ -272,28 +267,6 @@ export function computeSessionPlan(
 	chargers: PlanCharger[],
 	input: SessionPlanInput,
 	timeZone: string
-): SessionPlan | SessionPlanFailure {
-	return planSession(pack, chargers, input, timeZone, {});
-}
-
-/** computeSessionPlan, with the engine's own plan where the session has one (the plan screen's what-if starts from it). */
-export function computeSessionPlanWithEngine(
-	pack: PlanPack,
-	chargers: PlanCharger[],
-	input: SessionPlanInput,
-	timeZone: string
-): { planned: SessionPlan | SessionPlanFailure; chargePlan: ChargePlan | null } {
-	const engine: { plan?: ChargePlan } = {};
-	const planned = planSession(pack, chargers, input, timeZone, engine);
-	return { planned, chargePlan: planned.ok ? (engine.plan ?? null) : null };
-}
-
-function planSession(
-	pack: PlanPack,
-	chargers: PlanCharger[],
-	input: SessionPlanInput,
-	timeZone: string,
-	engine: { plan?: ChargePlan }
 ): SessionPlan | SessionPlanFailure {
 	const chem = resolveChemistry(pack.chemistry);
 	if ('ok' in chem) return fail(chem.reason, chem.detail ?? 'The chemistry is not usable.');
@@ -442,13 +415,11 @@ function planSession(
 		if (input.kind === 'one-at-a-time') {
 			const plan = planOneAtATime({ ...base, setVolts: setVolts as number, channel: channelOf(chosen[0]) });
 			if (!plan.ok) return fail(plan.reason, plan.detail ?? 'The plan cannot be made.');
-			engine.plan = { kind: 'one-at-a-time', plan };
 			warnings.push(...plan.warnings);
 			steps = toSteps(plan.steps, 'charge', labelFrom(charger));
 		} else {
 			const plan = planChannels({ ...base, setVolts: setVolts as number, channels: chosen.map(channelOf) });
 			if (!plan.ok) return fail(plan.reason, plan.detail ?? 'The plan cannot be made.');
-			engine.plan = { kind: 'channels', plan };
 			warnings.push(...plan.warnings);
 			lowerBoundHours = plan.lowerBoundHours;
 			steps = toSteps(plan.steps, 'charge', labelFrom(charger));

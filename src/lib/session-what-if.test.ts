@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { chemistries, type WhatIfAlternative, type WhatIfOutcome } from '$lib/engine';
-import { computeSessionPlan, computeSessionPlanWithEngine, type PlanCharger, type PlanPack, type SessionPlanInput } from './session-plan';
+import { computeSessionPlan, type PlanCharger, type PlanPack, type SessionPlanInput } from './session-plan';
 import { computeSessionWhatIf, whatIfSentence } from './session-what-if';
 
 // Invented equipment and a 4S1P LFP pack; each expected sentence is worked by hand beside it from
@@ -91,20 +91,6 @@ describe('computeSessionWhatIf', () => {
 				}
 			]
 		});
-	});
-
-	it("compares with the plan screen's own engine plan when given it, and does not plan it again", () => {
-		const { chargePlan } = computeSessionPlanWithEngine(pack, [bench], input, ZONE);
-		if (chargePlan?.kind !== 'one-at-a-time') throw new Error('a one-at-a-time plan has its engine plan');
-		expect(computeSessionWhatIf(pack, [bench], input, ZONE, chargePlan)).toEqual(computeSessionWhatIf(pack, [bench], input, ZONE));
-		// A given plan 1 h longer than the first case's shows through: it ends 23:05 + 1 h = 00:05 Fri, and
-		// the second supply saves 19 h 35 min + 1 h.
-		const later = { ...chargePlan.plan, end: new Date(chargePlan.plan.end.getTime() + HOUR), totalHours: chargePlan.plan.totalHours + 1 };
-		const r = computeSessionWhatIf(pack, [bench], input, ZONE, { kind: 'one-at-a-time', plan: later });
-		expect(r && r.applies && r.lines[0].text).toContain(`this session would end Thu 2 Jul, 03:30 instead of Fri 3 Jul, 00:05 (20${T}h 35${T}min sooner;`);
-		// A plan of another kind is not this input's plan: left aside.
-		const channels = { ...input, kind: 'channels' as const, chargerId: 'hobby', channelIds: ['h1', 'h2'] };
-		expect(computeSessionWhatIf(pack, [hobby], channels, ZONE, chargePlan)).toEqual(computeSessionWhatIf(pack, [hobby], channels, ZONE));
 	});
 
 	it.each([

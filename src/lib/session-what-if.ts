@@ -13,7 +13,6 @@ import {
 	planGroupsFor,
 	setVoltsFor,
 	windowsFor,
-	type ChargePlan,
 	type PlanCharger,
 	type PlanPack,
 	type SessionPlanInput
@@ -73,15 +72,13 @@ const capital = (t: string) => t.charAt(0).toUpperCase() + t.slice(1);
 
 /**
  * The what-if for a session's plan input, or null when there is no plan to compare with (the plan
- * screen shows the plan's own failure then). `chargePlan`: the engine's plan of this same input, when
- * the caller has it (computeSessionPlanWithEngine); the baseline is then not planned again.
+ * screen shows the plan's own failure then).
  */
 export function computeSessionWhatIf(
 	pack: PlanPack,
 	chargers: PlanCharger[],
 	input: SessionPlanInput,
-	timeZone: string,
-	chargePlan: ChargePlan | null = null
+	timeZone: string
 ): SessionWhatIf {
 	if (input.kind !== 'one-at-a-time' && input.kind !== 'channels') {
 		const what = equipmentWhatIf({ kind: input.kind === 'bleed' || input.kind === 'rest-check' ? input.kind : 'bulk' });
@@ -107,8 +104,7 @@ export function computeSessionWhatIf(
 	};
 	const like = chosen[0];
 	if (input.kind === 'one-at-a-time') {
-		const baseline = chargePlan?.kind === 'one-at-a-time' ? { baseline: chargePlan.plan } : {};
-		const what = equipmentWhatIf({ kind: 'one-at-a-time', input: { ...base, channel: channelOf(like) }, ...baseline });
+		const what = equipmentWhatIf({ kind: 'one-at-a-time', input: { ...base, channel: channelOf(like) } });
 		if (!what.ok || !what.applies) return null;
 		const noun = charger.kind === 'bench-supply' ? 'supply' : charger.kind === 'multi-channel' ? 'channel' : 'charger';
 		const lines = what.alternatives.map((alt) =>
@@ -116,8 +112,7 @@ export function computeSessionWhatIf(
 		);
 		return { applies: true, lines };
 	}
-	const baseline = chargePlan?.kind === 'channels' ? { baseline: chargePlan.plan } : {};
-	const what = equipmentWhatIf({ kind: 'channels', input: { ...base, channels: chosen.map(channelOf) }, ...baseline });
+	const what = equipmentWhatIf({ kind: 'channels', input: { ...base, channels: chosen.map(channelOf) } });
 	if (!what.ok || !what.applies) return null;
 	const lines = what.alternatives.map((alt) =>
 		whatIfSentence(

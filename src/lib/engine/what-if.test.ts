@@ -1,7 +1,5 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { planChannels } from './plan-channels';
-import { planOneAtATime } from './plan-one';
 import { equipmentWhatIf, type EquipmentWhatIf, type WhatIfInput } from './what-if';
 import { at, enumeratedMakespan, RunCounter, stepsStartingUnattended } from './test-support';
 
@@ -110,37 +108,6 @@ describe('equipmentWhatIf', () => {
 		expect(four.hoursSaved).toBeCloseTo(HOURS_10, 4);
 		expect(four.lowerBoundHours).toBeCloseTo(HOURS_10, 4);
 		expect(new Set(four.steps.map((s) => s.channelId)).size).toBe(4);
-	});
-
-	it("uses the caller's baseline plan as given: its steps are the answer's, and the answer is the one without it", () => {
-		const one = { chemistry: 'nmc' as const, groups: groupsOf(30, 10, 10, 10), setVolts: 4.2, start: at(0), swapMinutes: 10, channel: channel('bench') };
-		const onePlan = planOneAtATime(one);
-		if (!onePlan.ok) throw new Error(onePlan.reason);
-		const given = applies({ kind: 'one-at-a-time', input: one, baseline: onePlan });
-		expect(given.baseline.steps).toBe(onePlan.steps);
-		expect(given.baseline.totalHours).toBeCloseTo(13.210419, 4); // worked by hand in the first case
-		expect(given).toEqual(applies({ kind: 'one-at-a-time', input: one }));
-
-		const several = { chemistry: 'nmc' as const, groups: groupsOf(10, 10, 10, 10), setVolts: 4.2, start: at(0), channels: [channel('c1'), channel('c2')] };
-		const severalPlan = planChannels(several);
-		if (!severalPlan.ok) throw new Error(severalPlan.reason);
-		const givenSeveral = applies({ kind: 'channels', input: several, baseline: severalPlan });
-		expect(givenSeveral.baseline.steps).toBe(severalPlan.steps);
-		expect(givenSeveral.baseline.lowerBoundHours).toBe(severalPlan.lowerBoundHours);
-		expect(givenSeveral).toEqual(applies({ kind: 'channels', input: several }));
-	});
-
-	it('does not plan the baseline again: a given plan that ends 2 h later shows in the answer', () => {
-		const one = { chemistry: 'nmc' as const, groups: groupsOf(30, 10, 10, 10), setVolts: 4.2, start: at(0), swapMinutes: 10, channel: channel('bench') };
-		const plan = planOneAtATime(one);
-		if (!plan.ok) throw new Error(plan.reason);
-		const later = { ...plan, end: new Date(plan.end.getTime() + 2 * H), totalHours: plan.totalHours + 2 };
-		const r = applies({ kind: 'one-at-a-time', input: one, baseline: later });
-		expect(r.baseline.totalHours).toBeCloseTo(13.210419 + 2, 4);
-		expect(r.baseline.end).toEqual(later.end);
-		// The second supply's plan is the same as ever (7.741270 h, worked by hand above); it saves 2 h more.
-		expect(r.alternatives[0].totalHours).toBeCloseTo(7.74127, 4);
-		expect(r.alternatives[0].hoursSaved).toBeCloseTo(13.210419 + 2 - 7.74127, 4);
 	});
 
 	it.each(['bulk', 'bleed', 'rest-check'] as const)('says a what-if does not apply to %s', (kind) => {

@@ -1,6 +1,6 @@
 import type { Channel } from './charge';
-import type { Plan, PlanStep } from './plan-common';
-import { planChannels, type ChannelsInput, type ChannelsPlan } from './plan-channels';
+import type { PlanStep } from './plan-common';
+import { planChannels, type ChannelsInput } from './plan-channels';
 import { planOneAtATime, type OneAtATimeInput } from './plan-one';
 import { makespanLowerBound } from './schedule';
 import { MS_PER_HOUR, type Result } from './types';
@@ -33,19 +33,9 @@ export type EquipmentWhatIf =
 	| { applies: true; baseline: WhatIfOutcome; alternatives: WhatIfAlternative[] }
 	| { applies: false; why: string };
 
-/**
- * What to compare. `baseline`: the planner's own plan for `input` when the caller has made it already
- * (the plan screen has): it is taken as it is, not planned again — it must be the plan of this input.
- */
 export type WhatIfInput =
-	| { kind: 'one-at-a-time'; input: OneAtATimeInput; baseline?: Plan }
-	| {
-			kind: 'channels';
-			input: ChannelsInput;
-			baseline?: ChannelsPlan;
-			/** Channels to add, each its own alternative; default [1, 2]. */
-			added?: number[];
-	  }
+	| { kind: 'one-at-a-time'; input: OneAtATimeInput }
+	| { kind: 'channels'; input: ChannelsInput; /** Channels to add, each its own alternative; default [1, 2]. */ added?: number[] }
 	| { kind: 'bulk' | 'bleed' | 'rest-check' };
 
 /** Plans a second step ending within this much of another are the same (as the planners count). */
@@ -110,20 +100,20 @@ function alternatives(base: ChannelsInput, baseline: WhatIfOutcome, added: numbe
  * the first, same hands-on hours) or with one and two more channels of the same kind (several
  * channels), each with its end, hours saved, lower bound and hours with nobody there. A whole-pack
  * charge, a bleed and a rest check are not limited by channels: the answer says so. A plan that
- * cannot be made is the planner's own failure. A given `baseline` plan is used, not made again.
+ * cannot be made is the planner's own failure.
  */
 export function equipmentWhatIf(what: WhatIfInput): Result<EquipmentWhatIf> {
 	if (what.kind === 'one-at-a-time') {
-		const plan = what.baseline ?? planOneAtATime(what.input);
-		if ('reason' in plan) return plan;
+		const plan = planOneAtATime(what.input);
+		if (!plan.ok) return plan;
 		const startMs = what.input.start.getTime();
 		const baseline = outcomeOf(plan.steps, startMs, plan.end.getTime(), 1);
 		const asChannels: ChannelsInput = { ...what.input, channels: [what.input.channel] };
 		return { ok: true, applies: true, baseline, alternatives: alternatives(asChannels, baseline, [1]) };
 	}
 	if (what.kind === 'channels') {
-		const plan = what.baseline ?? planChannels(what.input);
-		if ('reason' in plan) return plan;
+		const plan = planChannels(what.input);
+		if (!plan.ok) return plan;
 		const startMs = what.input.start.getTime();
 		const baseline = { ...outcomeOf(plan.steps, startMs, plan.end.getTime(), what.input.channels.length), lowerBoundHours: plan.lowerBoundHours };
 		return { ok: true, applies: true, baseline, alternatives: alternatives(what.input, baseline, what.added ?? [1, 2]) };
