@@ -162,6 +162,9 @@ export_test_env() {
 	export DATABASE_URL="$TEST_DATABASE_URL"
 	export CELLSITTER_FAKES=1 FAKES_URL="$FAKES_URL_TEST" TEST_FAKES_URL="$FAKES_URL_TEST" SMTP_URL="$SMTP_URL_TEST"
 	export BODY_SIZE_LIMIT=12M ORIGIN="$E2E_URL"
+	# Node closes an idle kept-alive connection after 5 s; a test's request sent on it at that very
+	# moment fails with ECONNRESET (seen once on CI). The test servers keep idle connections longer.
+	export KEEP_ALIVE_TIMEOUT=120
 	# No demo workshop in tests: they make their own accounts.
 	unset CELLSITTER_DEMO CELLSITTER_DEMO_PASSWORD
 }

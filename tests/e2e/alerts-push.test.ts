@@ -45,7 +45,9 @@ test('an over-temperature reading reaches the tile, the inbox and the phone as a
 	const sw = await serviceWorkerPush(page, baseURL!);
 	await sw.push(JSON.stringify(payload));
 	await expect
-		.poll(async () => (await sw.shown(payload!.tag)).map((n) => ({ title: n.title, url: n.data.url, sticky: n.requireInteraction })))
+		.poll(async () => (await sw.shown(payload!.tag)).map((n) => ({ title: n.title, url: n.data.url, sticky: n.requireInteraction })), {
+			timeout: 15_000
+		})
 		.toEqual([{ title: payload!.title, url: payload!.url, sticky: true }]);
 	const alertPath = new URL(payload!.url).pathname;
 

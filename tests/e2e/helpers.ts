@@ -168,7 +168,12 @@ export async function serviceWorkerPush(page: Page, baseURL: string) {
 	});
 	await cdp.send('ServiceWorker.enable');
 	return {
-		push: async (data: string) => cdp.send('ServiceWorker.deliverPushMessage', { origin, registrationId: await registrationId, data }),
+		// Delivered only once the worker is active: a push handed to a worker still installing can be
+		// dropped, which a loaded machine showed once as a notification that never came.
+		push: async (data: string) => {
+			await page.evaluate(async () => void (await navigator.serviceWorker.ready));
+			await cdp.send('ServiceWorker.deliverPushMessage', { origin, registrationId: await registrationId, data });
+		},
 		shown: (tag: string) =>
 			page.evaluate(async (t) => {
 				const registration = await navigator.serviceWorker.ready;

@@ -48,6 +48,8 @@ test('the plan screen says when a second supply would end the session, and its l
 	const whatIf = page.getByRole('region', { name: 'With more equipment' });
 	await whatIf.scrollIntoViewIfNeeded();
 	await expect(whatIf).toBeVisible();
+	// The what-if is worked out once the form has settled: wait for the one of this very plan.
+	await expect(whatIf.getByRole('listitem').first()).toContainText(`instead of ${endsAbout.slice(-5)}`);
 	const sentence = (await whatIf.getByRole('listitem').first().textContent())!.replace(/\u2009/g, ' ').trim();
 	const m = sentence.match(
 		/^With a second 5 A supply this session would end \w{3} \d{1,2} \w{3}, (\d\d:\d\d) instead of (\d\d:\d\d) \((?:(\d+) h ?)?(?:(\d+) min)? sooner; it cannot end before (\d\d:\d\d) with two supplies\)\.$/

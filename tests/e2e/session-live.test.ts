@@ -142,3 +142,31 @@ test('a second browser receives a new reading as a server-sent event and charts 
 	await bench.close();
 	await desk.close();
 });
+
+test('a reading arriving while the technician leaves the run screen does not keep them there', async ({ browser, baseURL }) => {
+	const context = await browser.newContext(phone);
+	const page = await context.newPage();
+	const slug = await signUpByForm(page.request, baseURL!, uniqueEmail('leave'));
+	const sessionId = await runningSession(page.request, baseURL!, slug);
+	await page.goto(`/w/${slug}/sessions/${sessionId}`);
+	await expect(page.getByRole('status').filter({ hasText: 'Live: new readings appear here' })).toBeVisible(slow);
+
+	// The pack page's data is held back for 1.5 s, so the tap's navigation is still under way when
+	// the reading's event reaches the run screen (which reloads its own data 250 ms after an event).
+	let held = false;
+	await page.route('**/packs/*/__data.json*', async (route) => {
+		held = true;
+		await new Promise((r) => setTimeout(r, 1_500));
+		await route.continue();
+	});
+	await page.getByRole('link', { name: 'Live trial', exact: true }).click();
+	await expect.poll(() => held).toBe(true);
+	await ok(
+		await page.request.post(`/api/w/${slug}/sessions/${sessionId}/readings`, {
+			data: { readings: [{ clientId: 'while-leaving', groupIndex: 1, takenAt: new Date().toISOString(), volts: 3.7 }] }
+		})
+	);
+	await expect(page).toHaveURL(/\/packs\/[^/]+$/, slow);
+	await expect(page.getByRole('heading', { name: 'Live trial', level: 1 })).toBeVisible();
+	await context.close();
+});
