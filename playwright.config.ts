@@ -20,6 +20,9 @@ export default defineConfig({
 		baseURL: process.env.E2E_BASE_URL ?? 'http://127.0.0.1:3100',
 		browserName: 'chromium',
 		trace: 'retain-on-failure',
+		// The app's service worker caches the whole app shell in every new browser context; only the
+		// files that test it (offline, push) let it run: test.use({ serviceWorkers: 'allow' }).
+		serviceWorkers: 'block',
 		screenshot: 'only-on-failure',
 		launchOptions: {
 			// Debian's chromium (apt-get install chromium); Playwright's own browsers are never

@@ -6,7 +6,7 @@ import { FAKES_URL, plannedSession, serviceWorkerPush, signUp, turnOnPush, uniqu
 // server sent (received and decrypted by the local fake push service) shown by the service worker,
 // and the alert acknowledged. Headless Chromium cannot receive from a push service (stack.md, item
 // 13), so the payload the fake received is handed to the service worker through DevTools.
-test.use({ viewport: { width: 390, height: 844 } });
+test.use({ viewport: { width: 390, height: 844 }, serviceWorkers: 'allow' });
 
 test('an over-temperature reading reaches the tile, the inbox and the phone as a notification, and is acknowledged', async ({ page, baseURL }) => {
 	const slug = await signUp(page, { name: 'Hal Heat', email: uniqueEmail('heat'), workshop: 'Hal Bench' });

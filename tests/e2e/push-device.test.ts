@@ -6,7 +6,7 @@ import { serviceWorkerPush, signUp, turnOnPush, uniqueEmail } from './helpers';
 // Headless Chromium cannot make a real push subscription (stack.md, item 13): the page's
 // PushManager hands out one made by the local fake push service instead, so the server side —
 // keys, storage — is real.
-test.use({ viewport: { width: 390, height: 844 } });
+test.use({ viewport: { width: 390, height: 844 }, serviceWorkers: 'allow' });
 
 /** A push the service worker handles may wait for the worker to start again: seconds on a busy machine. */
 const SHOWN_MS = 15_000;

@@ -4,7 +4,7 @@ import { PASSWORD, linkFromMailbox, plannedSession, signOut, signUp, uniqueEmail
 // The technician's run screen on a phone: the builder plans and starts the session, a technician
 // takes the watch, starts the step, logs a round, loses the connection, logs another round (it
 // waits on the phone), comes back and sees it saved exactly once, and stops the session.
-test.use({ viewport: { width: 390, height: 844 } });
+test.use({ viewport: { width: 390, height: 844 }, serviceWorkers: 'allow' });
 
 /** The owner invites a technician, who joins through the e-mailed link (left signed in as the technician). */
 async function joinTechnician(page: Page, slug: string) {
