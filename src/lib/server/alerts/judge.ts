@@ -13,7 +13,7 @@
  * only then judges under the session's row lock, so judgements that write never overlap, in this
  * process or across instances.
  */
-import { db } from '../db';
+import { db, prepared } from '../db';
 import { afterCommit } from './deliver';
 import { evaluateReadingsInTx, readingsUnchanged } from './raise';
 
@@ -41,7 +41,7 @@ async function drain(sessionId: string, slot: Slot): Promise<void> {
 			const served = slot.waiting.splice(0);
 			try {
 				// Most judgements change nothing: one statement tells. Otherwise under the row lock.
-				if (!(await readingsUnchanged(db, sessionId))) {
+				if (!(await readingsUnchanged(prepared, sessionId))) {
 					const changes = await db.transaction((tx) => evaluateReadingsInTx(tx, sessionId));
 					await afterCommit(changes);
 				}

@@ -13,7 +13,7 @@
  * the outbox. After the commit `dispatchDeliveries` hands them to pg-boss; rows a crash left
  * behind are picked up by the alert clock's sweep (deliver.ts). So nothing committed is lost.
  */
-import { and, eq, getTableColumns, inArray, isNull, lt, sql } from 'drizzle-orm';
+import { and, eq, getTableColumns, inArray, isNull, lt, sql, type SQL } from 'drizzle-orm';
 import type { PgTable } from 'drizzle-orm/pg-core';
 import { alertAction, alertTitle, alertUnit } from '$lib/alert-words';
 import { routeAlert } from '$lib/alert-routing';
@@ -66,7 +66,8 @@ function fromRow<T extends PgTable>(table: T, json: Record<string, unknown>): T[
 	return out as T['$inferSelect'];
 }
 
-type Runner = Pick<Tx, 'execute'>;
+/** A transaction, or the pool through prepared statements (db/index.ts `prepared`). */
+type Runner = { execute: (query: SQL) => PromiseLike<readonly unknown[]> };
 
 async function loadRunInput(
 	tx: Runner,

@@ -7,7 +7,7 @@ import { and, desc, eq, gte, sql } from 'drizzle-orm';
 import { READING_LIMITS, type ReadingInput, type ReadingPatch } from '$lib/schemas/readings';
 import { canSeePack } from '../packs';
 import { requirePermission, type Member } from '../auth/permissions';
-import { db, type Tx } from '../db';
+import { db, executePrepared, type Tx } from '../db';
 import { chargeSessions, deviceTokens, packGroups, packs, readings, users, type ChargeSession } from '../db/schema';
 import { writeAudit } from './audit';
 import { notifySession, SESSION_EVENTS_CHANNEL } from './notify';
@@ -170,7 +170,7 @@ export async function logReadings(
 	// notifySession sends, delivered at commit.
 	// The readings are judged right after the commit (alerts/judge.ts), once for all the posts of
 	// the session that arrive together.
-	const [result] = (await db.execute(sql`
+	const [result] = (await executePrepared(sql`
 		with s as (select status from charge_sessions where id = ${sessionId} for key share),
 		ins as (
 				insert into readings (session_id, pack_id, group_id, step_id, taken_at, volts, amps, temp_c, ambient_c,

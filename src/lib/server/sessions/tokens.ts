@@ -4,7 +4,7 @@
  * slow hash would buy nothing and the readings API must answer hundreds of posts a second.
  */
 import { createHash, randomBytes } from 'node:crypto';
-import { and, desc, eq } from 'drizzle-orm';
+import { and, desc, eq, sql } from 'drizzle-orm';
 import { requirePermission, type Member } from '../auth/permissions';
 import { db } from '../db';
 import { chargeSessions, deviceTokens, packs, users, workshops } from '../db/schema';
@@ -165,15 +165,12 @@ const bearerChallenge = (error: string, message: string) =>
 	});
 
 /**
- * The device behind `Authorization: Bearer <token>` for this workshop and session, in one query
- * (token, its session, the workshop's slug and the pack's series). An unknown or revoked token →
- * 401 with a Bearer challenge; a token of another session or workshop → 403; nothing is written.
+ * The token lookup of every device post, as a prepared statement (PostgreSQL plans it once per
+ * connection; drizzle would send it unnamed and have it planned on every post). Made on first use.
  */
-export async function deviceFromBearer(request: Request, workshopSlug: string, sessionId: string): Promise<DeviceActor | Response> {
-	const match = /^bearer\s+(\S+)\s*$/i.exec(request.headers.get('authorization') ?? '');
-	if (!match || match[1].length > 200)
-		return bearerChallenge('invalid_request', 'Send the device token as: Authorization: Bearer <token>.');
-	const [row] = await db
+let tokenByHash: ReturnType<typeof prepareTokenByHash> | undefined;
+function prepareTokenByHash() {
+	return db
 		.select({
 			id: deviceTokens.id,
 			name: deviceTokens.name,
@@ -189,7 +186,21 @@ export async function deviceFromBearer(request: Request, workshopSlug: string, s
 		.innerJoin(chargeSessions, eq(chargeSessions.id, deviceTokens.sessionId))
 		.innerJoin(workshops, eq(workshops.id, chargeSessions.workshopId))
 		.innerJoin(packs, eq(packs.id, chargeSessions.packId))
-		.where(eq(deviceTokens.tokenHash, hashDeviceToken(match[1])));
+		.where(eq(deviceTokens.tokenHash, sql.placeholder('hash')))
+		.prepare('device_token_by_hash');
+}
+
+/**
+ * The device behind `Authorization: Bearer <token>` for this workshop and session, in one query
+ * (token, its session, the workshop's slug and the pack's series). An unknown or revoked token →
+ * 401 with a Bearer challenge; a token of another session or workshop → 403; nothing is written.
+ */
+export async function deviceFromBearer(request: Request, workshopSlug: string, sessionId: string): Promise<DeviceActor | Response> {
+	const match = /^bearer\s+(\S+)\s*$/i.exec(request.headers.get('authorization') ?? '');
+	if (!match || match[1].length > 200)
+		return bearerChallenge('invalid_request', 'Send the device token as: Authorization: Bearer <token>.');
+	tokenByHash ??= prepareTokenByHash();
+	const [row] = await tokenByHash.execute({ hash: hashDeviceToken(match[1]) });
 	if (!row) return bearerChallenge('invalid_token', 'This device token is not known. Ask the builder for a token of this session.');
 	if (row.revokedAt)
 		return bearerChallenge('invalid_token', 'This device token was revoked. Ask the builder for a new token of this session.');
