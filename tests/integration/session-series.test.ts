@@ -6,6 +6,7 @@
 import { randomUUID } from 'node:crypto';
 import { asc, eq, sql } from 'drizzle-orm';
 import { LTTB } from 'downsample';
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import type { Member } from '$lib/server/auth/permissions';
 import { db } from '$lib/server/db';
@@ -277,6 +278,45 @@ describe('session chart data', () => {
 		}
 		console.log(figures.join('\n'));
 	}, 600_000);
+
+	it('works the spread out again from the changed bucket on, as a scan of all the readings at once would', () => {
+		// The spread is kept between readings and resumed from a checkpoint before the first bucket a
+		// new reading changed. Readings arrive one at a time, in or out of time order, from groups that
+		// appear late, across coarsenings; after each, the kept spread must equal a fresh scan.
+		const reading = fc.record({
+			group: fc.constantFrom('g1', 'g2', 'g3', 'g4'),
+			t: fc.integer({ min: 0, max: 3_000_000 }),
+			volts: fc.integer({ min: 3000, max: 4300 }).map((mv) => mv / 1000)
+		});
+		let runs = 0;
+		fc.assert(
+			fc.property(fc.array(reading, { minLength: 1, maxLength: 160 }), fc.constantFrom(8, 100, 400), (readings, cap) => {
+				runs++;
+				const live = new Buckets(['volts', 'temp_c'], cap);
+				for (let i = 0; i < readings.length; i++) {
+					const r = readings[i];
+					live.fold(r.group, r.t, [r.volts, null]);
+					if (i % 3 !== 0 && i !== readings.length - 1) continue;
+					const fresh = new Buckets(['volts', 'temp_c'], cap);
+					for (const x of readings.slice(0, i + 1)) fresh.fold(x.group, x.t, [x.volts, null]);
+					expect(live.spread()).toEqual(fresh.spread());
+				}
+			}),
+			{ numRuns: 200, seed: 20261203 }
+		);
+		expect(runs).toBe(200);
+		// And a hand-made case: a late reading of group 1 in an early bucket changes every later point
+		// (group 1's latest carries forward), while the points before it stay.
+		const b = new Buckets(['volts'], 1000);
+		b.fold('g1', 0, [3.9]);
+		b.fold('g2', 0, [3.8]);
+		for (let k = 1; k <= 200; k++) b.fold('g2', k * 1000, [3.8]);
+		expect(b.spread().every(([, v]) => Math.abs(v - 0.1) < 1e-9)).toBe(true);
+		b.fold('g1', 100_000, [4.0]);
+		const after = b.spread();
+		expect(after.filter(([t]) => t < 100_000).every(([, v]) => Math.abs(v - 0.1) < 1e-9)).toBe(true);
+		expect(after.filter(([t]) => t >= 100_000).every(([, v]) => Math.abs(v - 0.2) < 1e-9)).toBe(true);
+	});
 
 	it('keeps a spike logged at the same moment as another reading of its group, wherever it falls in its bucket', () => {
 		// Buckets are 1 s · 2^level, aligned to the epoch; 8 s of readings in at most 4 buckets: 2 s each.

@@ -144,6 +144,9 @@ export class Buckets {
 	private reset = 0;
 	private readonly stamps = new Map<string | null, number[]>();
 	private readonly quantityStamps: number[];
+	/** The spread as last worked out, and the earliest bucket whose volts changed since (spread()). */
+	private spreadKept: KeptSpread | null = null;
+	private voltsDirtyFrom = Infinity;
 
 	constructor(
 		readonly quantities: Quantity[],
@@ -171,6 +174,7 @@ export class Buckets {
 	private coarsen() {
 		this.level++;
 		this.reset = ++this.clock;
+		this.spreadKept = null;
 		for (const [groupId, group] of this.groups) {
 			const merged = new Map<number, Float64Array>();
 			this.groups.set(groupId, merged);
@@ -192,11 +196,13 @@ export class Buckets {
 		const stamp = ++this.clock;
 		let stamps = this.stamps.get(groupId);
 		if (!stamps) this.stamps.set(groupId, (stamps = this.quantities.map(() => 0)));
-		const a = this.bucket(groupId, bucketOf(t, this.level));
+		const b = bucketOf(t, this.level);
+		const a = this.bucket(groupId, b);
 		values.forEach((v, q) => {
 			if (v === null) return;
 			foldPoint(a, q * SLOTS, t, v);
 			stamps[q] = this.quantityStamps[q] = stamp;
+			if (this.quantities[q] === 'volts' && b < this.voltsDirtyFrom) this.voltsDirtyFrom = b;
 		});
 	}
 
@@ -204,6 +210,7 @@ export class Buckets {
 	load(lo: number, hi: number, level: number, rows: BucketRow[]) {
 		this.groups.clear();
 		this.reset = ++this.clock;
+		this.spreadKept = null;
 		this.lo = lo;
 		this.hi = hi;
 		this.level = level;
@@ -237,23 +244,41 @@ export class Buckets {
 		const o = this.quantities.indexOf(q) * SLOTS;
 		const out: SeriesPoint[] = [];
 		if (!group || o < 0) return out;
+		// The bucket's first, lowest, highest and last (time, value), sorted by time in place (an
+		// insertion sort: stable, and no arrays made per bucket — this runs for every bucket of a line).
+		const ts = new Float64Array(4);
+		const vs = new Float64Array(4);
 		for (const b of this.sortedKeys(groupId)) {
 			const a = group.get(b)!;
 			if (Number.isNaN(a[o])) continue;
-			const candidates: SeriesPoint[] = [
-				[a[o], a[o + 1]],
-				[a[o + 5], a[o + 4]],
-				[a[o + 7], a[o + 6]],
-				[a[o + 2], a[o + 3]]
-			];
-			candidates.sort((x, y) => x[0] - y[0]);
+			ts[0] = a[o];
+			vs[0] = a[o + 1];
+			ts[1] = a[o + 5];
+			vs[1] = a[o + 4];
+			ts[2] = a[o + 7];
+			vs[2] = a[o + 6];
+			ts[3] = a[o + 2];
+			vs[3] = a[o + 3];
+			for (let i = 1; i < 4; i++) {
+				const t = ts[i];
+				const v = vs[i];
+				let j = i - 1;
+				for (; j >= 0 && ts[j] > t; j--) {
+					ts[j + 1] = ts[j];
+					vs[j + 1] = vs[j];
+				}
+				ts[j + 1] = t;
+				vs[j + 1] = v;
+			}
 			// Once each: the same reading is often the bucket's first and lowest, say. Two readings
 			// taken at the same moment both stay (a spike must not lose to the reading beside it).
 			const from = out.length;
-			for (const [t, v] of candidates) {
+			for (let i = 0; i < 4; i++) {
+				const t = ts[i];
+				const v = vs[i] / scale;
 				let seen = false;
-				for (let k = from; k < out.length; k++) if (out[k][0] === t && out[k][1] === v / scale) seen = true;
-				if (!seen) out.push([t, v / scale]);
+				for (let k = from; k < out.length; k++) if (out[k][0] === t && out[k][1] === v) seen = true;
+				if (!seen) out.push([t, v]);
 			}
 		}
 		return out;
@@ -281,16 +306,40 @@ export class Buckets {
 	 */
 	spread(): SeriesPoint[] {
 		const o = this.quantities.indexOf('volts') * SLOTS;
-		const out: SeriesPoint[] = [];
-		if (o < 0 || this.lo > this.hi) return out;
+		if (o < 0 || this.lo > this.hi) return [];
 		const groups = [...this.groups].filter(([groupId]) => groupId !== null).map(([, group]) => group);
+		const first = bucketOf(this.lo, this.level);
+		const last = bucketOf(this.hi, this.level);
+		// A new reading changes the spread from its own bucket on: the scan resumes at the checkpoint
+		// before it, with the groups' latest volts as they were there, and keeps the points before.
+		let kept = this.spreadKept;
+		let from = first;
+		let latest: Float64Array;
+		let groupsRead: number;
+		if (kept && kept.first === first && kept.groups === groups.length && Math.min(this.voltsDirtyFrom, kept.last + 1) > first) {
+			const resume = Math.min(this.voltsDirtyFrom, kept.last + 1);
+			if (resume > last) return kept.out.slice();
+			// The checkpoint at or before it that a scan has passed (buckets past `kept.last` are new).
+			from = first + Math.floor((Math.min(resume, kept.last) - first) / SPREAD_CHECKPOINT) * SPREAD_CHECKPOINT;
+			const checkpoint = kept.checkpoints.get(from)!;
+			latest = checkpoint.latest.slice();
+			groupsRead = checkpoint.groupsRead;
+			for (const b of kept.checkpoints.keys()) if (b > from) kept.checkpoints.delete(b);
+			let keep = kept.out.length;
+			while (keep > 0 && kept.outBucket[keep - 1] >= from) keep--;
+			kept.out.length = kept.outBucket.length = keep;
+		} else {
+			kept = { first, last, groups: groups.length, out: [], outBucket: [], checkpoints: new Map() };
+			latest = new Float64Array(groups.length).fill(NaN);
+			groupsRead = 0;
+		}
+		const { out, outBucket, checkpoints } = kept;
 		// Per group: its latest volts so far, and its lowest and highest in the current bucket.
-		const latest = new Float64Array(groups.length).fill(NaN);
 		const low = new Float64Array(groups.length);
 		const high = new Float64Array(groups.length);
-		let groupsRead = 0;
 		// Every bucket in the span, in order: at most `cap` of them.
-		for (let b = bucketOf(this.lo, this.level), last = bucketOf(this.hi, this.level); b <= last; b++) {
+		for (let b = from; b <= last; b++) {
+			if ((b - first) % SPREAD_CHECKPOINT === 0) checkpoints.set(b, { latest: latest.slice(), groupsRead });
 			let at = -Infinity;
 			for (let g = 0; g < groups.length; g++) {
 				const a = groups[g].get(b);
@@ -313,8 +362,12 @@ export class Buckets {
 				if (low[g] < lo) lo = low[g];
 			}
 			out.push([at, hi - lo]);
+			outBucket.push(b);
 		}
-		return out;
+		kept.last = last;
+		this.spreadKept = kept;
+		this.voltsDirtyFrom = Infinity;
+		return out.slice();
 	}
 
 	get size(): number {
@@ -323,6 +376,17 @@ export class Buckets {
 		return n;
 	}
 }
+
+/** The spread as last worked out: its points (and their buckets) and, every SPREAD_CHECKPOINT buckets, the scan's state. */
+type KeptSpread = {
+	first: number;
+	last: number;
+	groups: number;
+	out: SeriesPoint[];
+	outBucket: number[];
+	checkpoints: Map<number, { latest: Float64Array; groupsRead: number }>;
+};
+const SPREAD_CHECKPOINT = 64;
 
 function mergeSlots(into: Float64Array, from: Float64Array, o: number) {
 	if (Number.isNaN(from[o])) return;
