@@ -12,6 +12,7 @@ import { loadDemoIfEmpty } from '$lib/server/demo';
 import { checkPublicOrigin, serverEnv } from '$lib/server/env';
 import { startJobs, stopJobs } from '$lib/server/jobs/registry';
 import { applyMigrations } from '$lib/server/migrate';
+import { applySecurityHeaders } from '$lib/server/security-headers';
 
 export const init: ServerInit = async () => {
 	const env = serverEnv();
@@ -47,10 +48,7 @@ const handleAuth: Handle = async ({ event, resolve }) => {
 
 const handleSecurityHeaders: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
-	response.headers.set('X-Content-Type-Options', 'nosniff');
-	response.headers.set('Referrer-Policy', 'same-origin');
-	response.headers.set('X-Frame-Options', 'DENY');
-	response.headers.set('Permissions-Policy', 'camera=(self), geolocation=(), microphone=()');
+	applySecurityHeaders(response.headers, event.url);
 	return response;
 };
 

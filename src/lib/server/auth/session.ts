@@ -55,7 +55,7 @@ export function isSecureContext(url: URL): boolean {
 }
 
 function isLoopback(url: URL): boolean {
-	return ['127.0.0.1', 'localhost', '[::1]'].includes(url.hostname) || url.hostname.startsWith('127.');
+	return ['localhost', '[::1]'].includes(url.hostname) || /^127\.\d{1,3}\.\d{1,3}\.\d{1,3}$/.test(url.hostname);
 }
 
 /** Sets the session cookie; Secure everywhere except plain-HTTP loopback. */
