@@ -5,6 +5,8 @@
 #   bash scripts/test.sh unit|integration|e2e    one part only
 #   bash scripts/test.sh e2e tests/e2e/x.test.ts  browser tests of some files (Playwright arguments;
 #                                                  a running test cluster is used and left running)
+#   bash scripts/test.sh stress       `npm run test:stress`: the tests with a stress size at full size
+#                                     (CELLSITTER_STRESS=1), on a fresh test cluster
 #
 # Installs what is missing (npm packages, PostgreSQL, Debian's chromium when root), stops
 # everything it started, and ends with one line `N passed, N failed` summing all suites
@@ -24,6 +26,10 @@ readonly FAKES_URL_TEST="http://127.0.0.1:$FAKES_HTTP_PORT"
 readonly SMTP_URL_TEST="smtp://127.0.0.1:$FAKES_SMTP_PORT"
 # Reports and logs stay here after the run (git ignores it); data goes to RUN_DIR.
 readonly REPORT_DIR="$PROJECT_DIR/test-results"
+# `stress`: the test files that read CELLSITTER_STRESS=1 for their full sizes (integration files
+# first, then browser files: kill and restart, two instances).
+readonly STRESS_INTEGRATION_FILES=()
+readonly STRESS_E2E_FILES=(tests/e2e/crash-safety.test.ts tests/e2e/two-instances.test.ts)
 
 RUN_DIR=
 SERVER_PID=
@@ -200,13 +206,14 @@ run_svelte_check() {
 	fi
 }
 
-# run_vitest <project>: one vitest project with its JSON report.
+# run_vitest <project> [files]: one vitest project (or some of its files) with its JSON report.
 run_vitest() {
 	local project="$1" report="$REPORT_DIR/$1.json" code=0 counts
+	shift
 	heading "$project tests (vitest)"
 	rm -f "$report"
 	"$BIN/vitest" run --project "$project" --reporter=default --reporter=json \
-		--outputFile.json="$report" </dev/null || code=$?
+		--outputFile.json="$report" "$@" </dev/null || code=$?
 	counts="$(count_report vitest "$report" "$code")"
 	record "$project" "${counts% *}" "${counts#* }"
 }
@@ -218,7 +225,7 @@ run_integration() {
 		record integration 0 1
 		return
 	fi
-	CELLSITTER_DATA_DIR="$RUN_DIR/integration-data" run_vitest integration
+	CELLSITTER_DATA_DIR="$RUN_DIR/integration-data" run_vitest integration "$@"
 }
 
 # The app under test is built into its own folder, so a running `npm start` keeps its files.
@@ -271,9 +278,9 @@ run_e2e() {
 main() {
 	local part="${1:-all}"
 	case "$part" in
-	all | unit | integration | e2e) ;;
+	all | unit | integration | e2e | stress) ;;
 	*)
-		say "Usage: bash scripts/test.sh [unit|integration|e2e [playwright arguments]]"
+		say "Usage: bash scripts/test.sh [unit|integration|e2e [playwright arguments]|stress]"
 		exit 2
 		;;
 	esac
@@ -298,6 +305,11 @@ main() {
 		shift
 		if [ "$#" -gt 0 ]; then REUSE_RUNNING_DB=1; fi
 		run_e2e "$@"
+		;;
+	stress)
+		export CELLSITTER_STRESS=1
+		if [ "${#STRESS_INTEGRATION_FILES[@]}" -gt 0 ]; then run_integration "${STRESS_INTEGRATION_FILES[@]}"; fi
+		run_e2e "${STRESS_E2E_FILES[@]}"
 		;;
 	esac
 

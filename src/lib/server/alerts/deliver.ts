@@ -26,8 +26,14 @@ import { workshopOwners } from './recipients';
 
 /** pg-boss retries of a delivery: 12 after the first, 2 s doubling (with jitter) — about 2¼ hours in all. */
 export const DELIVERY_RETRY = { retryLimit: 12, retryDelay: 2, retryBackoff: true } as const;
-/** The delivery queue's options: also given when this process creates the queue by sending to it. */
-export const DELIVERY_QUEUE_OPTIONS = { ...DELIVERY_RETRY, expireInSeconds: 120 };
+/**
+ * The delivery queue's options: also given when this process creates the queue by sending to it.
+ * An attempt ends within about 25 s (the mail transport's timeouts in mail.ts, push's 10 s), so a
+ * job still active after 30 s belongs to a process that died mid-attempt (a crash, a kill): pg-boss's
+ * maintenance (every 10 s, boss.ts) then fails it and it goes again. With 120 s here, a critical
+ * alert raised just before a crash reached nobody for two to four minutes (tests/e2e/crash-safety).
+ */
+export const DELIVERY_QUEUE_OPTIONS = { ...DELIVERY_RETRY, expireInSeconds: 30 };
 /** How often a worker asks for deliveries (pg-boss's least), when nothing woke it sooner. */
 export const DELIVERY_POLL_SECONDS = 0.5;
 /** Deliveries a worker takes at once and sends side by side: one alert's e-mails and pushes together. */

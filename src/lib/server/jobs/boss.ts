@@ -34,6 +34,9 @@ export function startBoss(mode: BossMode = SEND_ONLY): Promise<PgBoss> {
 		// Small: workers here run a handful of short jobs at a time; postgres.js has its own pool.
 		max: 4,
 		supervise: mode.supervise,
+		// The maintenance is what fails a job past its expiry (a delivery its dead process held, see
+		// alerts/deliver.ts): every 10 s rather than pg-boss's 120. One process runs it per interval.
+		maintenanceIntervalSeconds: 10,
 		schedule: mode.schedule
 	});
 	boss.on('error', (e) => console.error('[jobs]', e));
