@@ -28,7 +28,7 @@ import { addCells, listBatch } from '$lib/server/cells';
 import { createCharger } from '$lib/server/chargers';
 import { createChemistryProfile } from '$lib/server/chemistry-profiles';
 import { db } from '$lib/server/db';
-import { alerts, auditEvents, invitations, memberships, packs, users } from '$lib/server/db/schema';
+import { alerts, auditEvents, chargeSessions, invitations, memberships, packs, sessionWatchers, users } from '$lib/server/db/schema';
 import { rereadServerEnv } from '$lib/server/env';
 import { newId } from '$lib/server/ids';
 import { readingInputSchema } from '$lib/schemas/readings';
@@ -520,7 +520,9 @@ const sends: Record<string, (actor: Actor) => Send | Promise<Send>> = {
 	[`${api}/packs/+server.ts POST`]: () => ({
 		json: { name: `Matrix ${next()}`, cellSpecId: ids.specId, series: 2, parallel: 1, packOwnerId: who.packViewer!.user.id }
 	}),
-	[`${api}/packs/[packId=id]/+server.ts PATCH`]: () => ({ json: { notes: 'matrix' } }),
+	// Workshop B's owner named as pack owner, on watch or as a watcher of A's session: refused
+	// however allowed the asker is (checked after the matrix).
+	[`${api}/packs/[packId=id]/+server.ts PATCH`]: () => ({ json: { packOwnerId: who.other!.user.id } }),
 	[`${api}/packs/[packId=id]/cells/+server.ts POST`]: () => ({ json: { cells: [{ label: `P${next()}`, volts: 3.6 }] } }),
 	[`${api}/packs/[packId=id]/matching/+server.ts POST`]: () => ({ json: {} }),
 	[`${api}/packs/[packId=id]/matching/+server.ts PUT`]: () => ({ json: { groups: [[cellForEdit]] } }),
@@ -534,8 +536,8 @@ const sends: Record<string, (actor: Actor) => Send | Promise<Send>> = {
 	// The step is running already: starting it again is a conflict, past the access check.
 	[`${api}/sessions/[sessionId=id]/steps/[stepId=id]/+server.ts POST`]: () => ({ json: { action: 'start' } }),
 	[`${api}/sessions/[sessionId=id]/tokens/+server.ts POST`]: () => ({ json: { name: `Logger ${next()}` } }),
-	[`${api}/sessions/[sessionId=id]/watch/+server.ts POST`]: () => ({ json: { userId: ownerA.user.id } }),
-	[`${api}/sessions/[sessionId=id]/watchers/+server.ts POST`]: () => ({ json: { userId: ownerA.user.id, watching: true } })
+	[`${api}/sessions/[sessionId=id]/watch/+server.ts POST`]: () => ({ json: { userId: who.other!.user.id } }),
+	[`${api}/sessions/[sessionId=id]/watchers/+server.ts POST`]: () => ({ json: { userId: who.other!.user.id, watching: true } })
 };
 
 // ---------------------------------------------------------------------------------------------
@@ -725,6 +727,12 @@ describe('authorization matrix', () => {
 		expect(changed).toEqual([]);
 		const packsOfB = await db.select({ id: packs.id }).from(packs).where(eq(packs.workshopId, who.otherIds!.workshop.id));
 		expect(packsOfB).toEqual([]);
+		const outsider = who.other!.user.id;
+		const [pack] = await db.select({ packOwnerId: packs.packOwnerId }).from(packs).where(eq(packs.id, ids.packId));
+		expect(pack.packOwnerId).toBe(who.packViewer!.user.id);
+		const [session] = await db.select({ watchUserId: chargeSessions.watchUserId }).from(chargeSessions).where(eq(chargeSessions.id, ids.sessionId));
+		expect(session.watchUserId).not.toBe(outsider);
+		expect(await db.select().from(sessionWatchers).where(eq(sessionWatchers.userId, outsider))).toEqual([]);
 		// …while the owner's own requests did change them (so the checks can fail).
 		const byOwner = untouched.filter((c) => c.actor === 'owner');
 		expect(byOwner.length).toBe(3);
