@@ -5,7 +5,7 @@ import { expect, type Page } from '@playwright/test';
  * Opens `path` and runs axe-core's WCAG 2 A/AA rules (and best practice) in the light theme; in the
  * dark theme only contrast, which is all a theme changes (look.md asks for AA contrast in both).
  */
-export async function expectAccessible(page: Page, path: string) {
+export async function expectAccessible(page: Page, path: string, where = '') {
 	await page.goto(path);
 	for (const colorScheme of ['light', 'dark'] as const) {
 		await page.emulateMedia({ colorScheme });
@@ -16,6 +16,6 @@ export async function expectAccessible(page: Page, path: string) {
 		else axe.withTags(['wcag2a', 'wcag2aa', 'best-practice']);
 		const { violations } = await axe.analyze();
 		const found = violations.map((v) => `${v.id} (${v.impact}) at ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`);
-		expect(found, `${path} in the ${colorScheme} theme`).toEqual([]);
+		expect(found, `${path} in the ${colorScheme} theme${where ? ` at ${where}` : ''}`).toEqual([]);
 	}
 }
