@@ -164,6 +164,9 @@ export type SessionPlanFailure = { ok: false; reason: string; message: string };
 const MS_PER_HOUR = 3_600_000;
 /** Hands-on windows are laid out this many days ahead of the start (longer plans fail plainly). */
 export const PLAN_HORIZON_DAYS = 60;
+/** A plan longer than this is refused: no charge, rest or bleed on a bench takes years. */
+export const PLAN_MAX_YEARS = 10;
+const HOURS_PER_YEAR = 8766; // 365.25 days
 
 function fail(reason: string, message: string): SessionPlanFailure {
 	return { ok: false, reason, message };
@@ -480,6 +483,15 @@ export function computeSessionPlan(
 		};
 	}
 
+	// A current the inputs allow but no charge can use (a channel or a requested current of 5e-324 A,
+	// still "more than 0") puts step times past any calendar: refused in words, never stored as a date.
+	const tooLong = (d: Date) => !Number.isFinite(d.getTime()) || d.getTime() - start.getTime() > PLAN_MAX_YEARS * HOURS_PER_YEAR * MS_PER_HOUR;
+	if (steps.some((s) => tooLong(s.expectedStart) || tooLong(s.expectedEnd))) {
+		return fail(
+			'too-long',
+			`At these currents the plan would run for more than ${PLAN_MAX_YEARS} years. Choose a higher current, another channel or a smaller bleed resistor.`
+		);
+	}
 	const end = steps.reduce((t, s) => (s.expectedEnd > t ? s.expectedEnd : t), start);
 	const unattended = steps.flatMap((s) => unattendedSpans(s, win.windows));
 	return {

@@ -15,8 +15,12 @@ export async function readPlanBody<S extends z.ZodType>(
 	/** Keys the form sends that this schema does not take (an edit cannot move a session to another pack). */
 	drop: string[] = []
 ): Promise<{ ok: true; data: z.output<S> } | { ok: false; failure: ReturnType<typeof fail<PlanActionFailure>> }> {
-	const form = await request.formData();
-	const text = form.get('plan');
+	let text: FormDataEntryValue | null = null;
+	try {
+		text = (await request.formData()).get('plan');
+	} catch {
+		// A body that is not a readable form (broken multipart, text/plain): the same answer as a lost plan.
+	}
 	let body: unknown;
 	try {
 		body = typeof text === 'string' ? JSON.parse(text) : undefined;
