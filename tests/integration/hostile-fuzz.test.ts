@@ -143,7 +143,8 @@ function event(who: Member | null, pathName: string, params: Record<string, stri
 		params,
 		url,
 		route: { id: pathName },
-		getClientAddress: () => '127.0.0.1',
+		// Not loopback: limits counted per address must never reach the browser tests' 127.0.0.1.
+		getClientAddress: () => '192.0.2.34',
 		setHeaders: () => {},
 		cookies: { get: () => undefined, getAll: () => [], set: () => {}, delete: () => {}, serialize: () => '' },
 		request: new Request(url, { method, body: send.body, headers: send.headers })
