@@ -10,6 +10,25 @@ import zlib from 'node:zlib';
 
 export const RUN_ROUTE = '/(app)/w/[workshop=slug]/sessions/[sessionId=id]';
 
+/** The main pages whose JavaScript docs/performance.md lists (route ids of the build's manifest). */
+const W = '/(app)/w/[workshop=slug]';
+export const MAIN_PAGES = [
+	{ name: 'Landing page', route: '/' },
+	{ name: 'Sign in', route: '/(auth)/login' },
+	{ name: 'Packs', route: `${W}/packs` },
+	{ name: 'A pack', route: `${W}/packs/[packId=id]` },
+	{ name: 'Cells of a pack', route: `${W}/packs/[packId=id]/cells` },
+	{ name: 'Matching', route: `${W}/packs/[packId=id]/matching` },
+	{ name: 'Pack history', route: `${W}/packs/[packId=id]/history` },
+	{ name: 'Sessions', route: `${W}/sessions` },
+	{ name: 'Plan a session', route: `${W}/sessions/new` },
+	{ name: 'Run screen', route: RUN_ROUTE },
+	{ name: 'Session report', route: `${W}/sessions/[sessionId=id]/report` },
+	{ name: 'Alerts', route: `${W}/alerts` },
+	{ name: 'An alert', route: `${W}/alerts/[alertId=id]` },
+	{ name: 'Workshop', route: `${W}/workshop` }
+];
+
 /** The build's server manifest: server/manifest.js, or the chunk adapter-node bundled it into. */
 async function serverManifest(buildDir) {
 	const plain = path.join(buildDir, 'server', 'manifest.js');

@@ -217,6 +217,17 @@ framework runtimes (Svelte, SvelteKit, TanStack Query: about 45 kB gzip together
 the run screen's own code, with the alert screens (tile states, alarm, red strip) since alerts came in.
 Together with chart.js those runtimes already take most of the 120 kB target.`);
 }
+if (http?.pages?.length) {
+	sections.push(`## JavaScript per main page
+
+The same count for each main page (client entry, layouts and page with their static imports; then
+what they load on demand), gzip level 9. Pages load what is at load; the lazy part is loaded only
+when asked for (the charts' drawings; the plan form's engine where it is split off).
+
+| page | at load, kB gzip | with lazy chunks, kB gzip | files at load |
+|---|---|---|---|
+${http.pages.map((p) => `| ${p.name} | ${fmt(p.atLoad.gzip / 1000)} | ${fmt(p.withLazy.gzip / 1000)} | ${p.atLoad.files} |`).join('\n')}`);
+}
 if (alerts?.mail && alerts?.push) {
 	const a = alerts;
 	const ms = (x) => (Number.isFinite(x) ? `${whole(x)} ms` : '—');

@@ -9,7 +9,7 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import postgres from 'postgres';
-import { runScreenJs } from './bundle.mjs';
+import { MAIN_PAGES, runScreenJs } from './bundle.mjs';
 import { ingest, latency, series } from './measure.mjs';
 import { seed } from './seed.mjs';
 
@@ -33,6 +33,11 @@ try {
 
 	log('JavaScript of the run screen...');
 	results.bundle = await runScreenJs(need('BENCH_BUILD_DIR'), need('BENCH_VITE_MANIFEST'));
+	results.pages = [];
+	for (const page of MAIN_PAGES) {
+		const js = await runScreenJs(need('BENCH_BUILD_DIR'), need('BENCH_VITE_MANIFEST'), page.route);
+		results.pages.push({ name: page.name, route: page.route, atLoad: js.atLoad, withLazy: js.withLazy });
+	}
 	log('ingest: device API beside a raw multi-row INSERT...');
 	results.ingest = await ingest(sql, baseUrl, seeded);
 	log('latency: one-reading POST at a fixed rate beside the bare route...');
