@@ -111,11 +111,15 @@ test('a reading posted to one instance reaches an event stream held by the other
 test('an over-limit reading posted to both instances at once raises one alert and one e-mail', async () => {
 	test.setTimeout(90_000);
 	const raised: string[] = [];
+	// Each round's readings a second after the last round's, so the newest reading of a group is
+	// always the one just posted (at most a minute ahead: the API takes up to 5 minutes).
+	const start = Date.now();
+	const at = (seconds: number) => new Date(start + seconds * 1000).toISOString();
 	for (let round = 0; round < ROUNDS; round++) {
 		const group = (round % SERIES) + 1;
 		const before = await sql!<{ id: string }[]>`select id from alerts where session_id = ${run.sessionId}`;
 		// The same condition (group over 60 °C) seen by two loggers at the same moment, one per instance.
-		const takenAt = new Date(Date.now() - 500).toISOString();
+		const takenAt = at(2 * round + 1);
 		const hot = (who: string) => ({ clientId: `hot-${round}-${who}`, groupIndex: group, takenAt, volts: 3.8, tempC: 66 });
 		await Promise.all([postReadings(a!, [hot('a')]), postReadings(b!, [hot('b')])]);
 		const found = await sql!<{ id: string; severity: string; cleared: boolean }[]>`
@@ -125,7 +129,7 @@ test('an over-limit reading posted to both instances at once raises one alert an
 		expect(found.map((f) => [f.severity, f.cleared]), `round ${round + 1}, group ${group}`).toEqual([['critical', false]]);
 		raised.push(found[0].id);
 		// Cool the group again (through either instance), so the next round on it raises anew.
-		await postReadings(round % 2 ? a! : b!, [{ clientId: `cool-${round}`, groupIndex: group, takenAt: new Date().toISOString(), volts: 3.8, tempC: 25 }]);
+		await postReadings(round % 2 ? a! : b!, [{ clientId: `cool-${round}`, groupIndex: group, takenAt: at(2 * round + 2), volts: 3.8, tempC: 25 }]);
 	}
 
 	// Each alert's e-mail went once, from whichever instance took the job.
