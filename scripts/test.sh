@@ -28,7 +28,7 @@ readonly SMTP_URL_TEST="smtp://127.0.0.1:$FAKES_SMTP_PORT"
 readonly REPORT_DIR="$PROJECT_DIR/test-results"
 # `stress`: the test files that read CELLSITTER_STRESS=1 for their full sizes (integration files
 # first, then browser files: kill and restart, two instances).
-readonly STRESS_INTEGRATION_FILES=()
+readonly STRESS_INTEGRATION_FILES=(tests/integration/hostile-fuzz.test.ts tests/integration/alerts-raise.test.ts)
 readonly STRESS_E2E_FILES=(tests/e2e/crash-safety.test.ts tests/e2e/two-instances.test.ts)
 
 RUN_DIR=

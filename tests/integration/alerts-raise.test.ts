@@ -353,6 +353,60 @@ describe('delivery that survives outages and crashes', () => {
 		}
 	}, 90_000);
 
+	// 10 s in `npm test`; a few minutes with CELLSITTER_STRESS=1 (`npm run test:stress`).
+	const OUTAGE_S = process.env.CELLSITTER_STRESS === '1' ? 180 : 10;
+	it(`delivers every alert raised while the mail server and the push service are both down (${OUTAGE_S} s), once each, after they return`, async () => {
+		// Fakes of this test's own: a mail server stopped for the outage and started again on its port,
+		// and a push service that answers 503 with Retry-After for the outage.
+		const probe = await startFakes({ smtpPort: 0, httpPort: 0, pushPort: 0 });
+		const smtpPort = probe.smtpPort;
+		await probe.close();
+		const pushSide = await startFakes({ smtpPort: 0, httpPort: 0, pushPort: 0 });
+		const saved = { SMTP_URL: process.env.SMTP_URL, FAKES_URL: process.env.FAKES_URL };
+		process.env.SMTP_URL = `smtp://127.0.0.1:${smtpPort}`;
+		process.env.FAKES_URL = pushSide.httpUrl;
+		rereadServerEnv();
+		let mailSide: Awaited<ReturnType<typeof startFakes>> | undefined;
+		try {
+			const { owner, session } = await sessionFixture();
+			const sub = await subscribe(owner.user.id);
+			const down = await fetch(`${pushSide.httpUrl}/push/outage`, { method: 'POST', body: JSON.stringify({ seconds: OUTAGE_S }) });
+			expect(down.status).toBe(200);
+			const outageEnds = Date.now() + OUTAGE_S * 1000;
+			await startJobs('work');
+			// Three conditions, three alerts, while both services are down.
+			await log(owner, session.id, [reading(4, { volts: 4.32 })]);
+			await log(owner, session.id, [reading(2, { volts: 3.9, tempC: 66 })]);
+			await log(owner, session.id, [reading(1, { volts: 2.4 })]);
+			const raised = await alertsOf(session.id);
+			expect(raised.map((a) => a.title).sort()).toEqual(['Group 1: under voltage', 'Group 2: over temperature', 'Group 4: over voltage']);
+			const ids = raised.map((a) => a.id);
+			const rowsOf = async () => (await Promise.all(ids.map(deliveriesOf))).flat();
+			expect((await rowsOf()).map((r) => r.channel).sort()).toEqual(['email', 'email', 'email', 'push', 'push', 'push']);
+			// Both channels are tried and fail while the services are down.
+			await expect.poll(async () => (await rowsOf()).every((r) => r.attempts >= 1 && r.status !== 'sent'), { timeout: 15_000 }).toBe(true);
+			await new Promise((r) => setTimeout(r, Math.max(0, outageEnds - Date.now())));
+			mailSide = await startFakes({ smtpPort, httpPort: 0, pushPort: 0 });
+			// Back: every row is sent (the retries back off exponentially from 2 s), each alert once per channel.
+			await expect
+				.poll(async () => (await rowsOf()).map((r) => r.status), { timeout: OUTAGE_S * 1000 + 45_000, interval: 1000 })
+				.toEqual(['sent', 'sent', 'sent', 'sent', 'sent', 'sent']);
+			// The fake mail server files a message once it has parsed it: a moment after accepting it.
+			const mailed = () => mailSide!.mailbox.list(owner.user.email).map((m) => m.subject);
+			await expect.poll(() => raised.map((a) => mailed().filter((t) => t.includes(a.title)).length), { timeout: 10_000 }).toEqual([1, 1, 1]);
+			const pushes = (await fakePushes(sub.endpoint)).map((p) => (p.json as { title: string }).title);
+			for (const alert of raised) expect(pushes.filter((t) => t.includes(alert.title)), alert.title).toHaveLength(1);
+			expect((await rowsOf()).every((r) => r.log.at(-1)!.ok && r.log.slice(0, -1).every((a) => !a.ok))).toBe(true);
+		} finally {
+			await stopJobs();
+			await mailSide?.close();
+			await pushSide.close();
+			process.env.SMTP_URL = saved.SMTP_URL;
+			process.env.FAKES_URL = saved.FAKES_URL;
+			rereadServerEnv();
+		}
+	}, 400_000);
+
 	it('queues again the outbox rows a crash left behind, and a second job for a sent row sends nothing', async () => {
 		const { owner, session, pack, groups } = await sessionFixture();
 		// The reading and its alert committed, then the process stopped before handing the
