@@ -222,7 +222,7 @@ if (http?.pages?.length) {
 
 The same count for each main page (client entry, layouts and page with their static imports; then
 what they load on demand), gzip level 9. Pages load what is at load; the lazy part is loaded only
-when asked for (the charts' drawings; the plan form's engine where it is split off).
+when asked for (the charts' drawings on the run screen and the pack history).
 
 | page | at load, kB gzip | with lazy chunks, kB gzip | files at load |
 |---|---|---|---|
