@@ -186,3 +186,14 @@ export async function serviceWorkerPush(page: Page, baseURL: string) {
 			}, tag)
 	};
 }
+
+/** A round on the run screen: one volts-per-cell value per group (Enter moves on), then "Save round". */
+export async function logRound(page: Page, volts: string[]) {
+	const entry = page.getByRole('region', { name: 'Log readings' });
+	for (const [i, v] of volts.entries()) {
+		const field = entry.getByLabel(`G${i + 1} volts per cell`);
+		await field.fill(v);
+		await field.press('Enter');
+	}
+	await entry.getByRole('button', { name: 'Save round' }).click();
+}

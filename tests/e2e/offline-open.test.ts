@@ -1,8 +1,8 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { chromium, expect, test, type BrowserContext, type Page } from '@playwright/test';
-import { plannedSession, signUp, uniqueEmail } from './helpers';
+import { chromium, expect, test, type BrowserContext } from '@playwright/test';
+import { logRound, plannedSession, signUp, uniqueEmail } from './helpers';
 
 // Offline, proven: on a phone, the run screen opened once is kept by the service worker, and opens
 // again with no network at all — a reload, not a page left open — with the groups as it last
@@ -23,16 +23,6 @@ async function cutNetwork(context: BrowserContext) {
 async function restoreNetwork(context: BrowserContext) {
 	await context.unrouteAll({ behavior: 'wait' });
 	await context.setOffline(false);
-}
-
-async function logRound(page: Page, volts: string[]) {
-	const entry = page.getByRole('region', { name: 'Log readings' });
-	for (const [i, v] of volts.entries()) {
-		const field = entry.getByLabel(`G${i + 1} volts per cell`);
-		await field.fill(v);
-		await field.press('Enter');
-	}
-	await entry.getByRole('button', { name: 'Save round' }).click();
 }
 
 test('the run screen opens with no network from the kept copy, with its last groups, and its round waits for the network', async ({ page, context }) => {

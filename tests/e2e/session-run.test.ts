@@ -1,5 +1,5 @@
 import { expect, request as playwrightRequest, test, type Page } from '@playwright/test';
-import { PASSWORD, linkFromMailbox, plannedSession, signOut, signUp, uniqueEmail } from './helpers';
+import { PASSWORD, linkFromMailbox, logRound, plannedSession, signOut, signUp, uniqueEmail } from './helpers';
 
 // The technician's run screen on a phone: the builder plans and starts the session, a technician
 // takes the watch, starts the step, logs a round, loses the connection, logs another round (it
@@ -21,16 +21,6 @@ async function joinTechnician(page: Page, slug: string) {
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByRole('button', { name: 'Join the workshop' }).click();
 	await expect(page).toHaveURL(new RegExp(`/w/${slug}/packs$`));
-}
-
-async function logRound(page: Page, volts: string[]) {
-	const entry = page.getByRole('region', { name: 'Log readings' });
-	for (const [i, v] of volts.entries()) {
-		const field = entry.getByLabel(`G${i + 1} volts per cell`);
-		await field.fill(v);
-		await field.press('Enter');
-	}
-	await entry.getByRole('button', { name: 'Save round' }).click();
 }
 
 test('a technician runs a session on a phone and logs readings through a dropped connection', async ({ page, baseURL }) => {
