@@ -302,7 +302,8 @@ describe('estimateCharge: out-of-sample evidence (checks the calibration did not
 	// Known miss, kept visible: common practice says stopping at C/10 leaves 95–98 % (references.md §3
 	// [CP]); the model's end state depends on the set voltage only, so a C/10 cut-off still reports
 	// 100 % (the cut-off only shortens the CV time). When the model learns this, this test starts to
-	// fail and should become a plain check.
+	// fail and should become a plain check. A taper falling linearly to zero was tried and not kept:
+	// it ends at 98.7 % here and, refitted, breaks the BU-216 checks above (docs/engine.md).
 	it.fails('known miss: a C/10 cut-off leaves 95–98 % in (common practice), not 100 %', () => {
 		const r = estimate({ chemistry: 'nmc', capacityAh: 1, startSoc: 0.1, amps: 1, setVolts: 4.2, terminationAmps: 0.1 });
 		expect(r.endSoc).toBeLessThanOrEqual(0.98);
