@@ -13,6 +13,7 @@ import { runReadingClock } from '$lib/server/jobs/reading-clock';
 import type { SessionListItem } from '$lib/server/sessions/core';
 import { applyMigrations } from '$lib/server/migrate';
 import { load as loadSessionsPage } from '../../src/routes/(app)/w/[workshop=slug]/sessions/+page.server';
+import { load as loadRunPage } from '../../src/routes/(app)/w/[workshop=slug]/sessions/[sessionId=id]/+page.server';
 
 const HOUR = 3_600_000;
 const sharedUrl = process.env.DATABASE_URL!;
@@ -206,6 +207,17 @@ describe('the demo sessions', () => {
 		expect(camper.stepsEnded).toBeGreaterThanOrEqual(2);
 		expect(camper.stepsEnded).toBeLessThan(camper.stepsTotal);
 		expect(camper.readingDueAt).toBeNull();
+
+		// Its expected end is the run screen's, re-estimated from the readings, not the plan moved by
+		// the step's delay: a technician reads one time on both screens.
+		const runPage = (await loadRunPage({
+			locals: { user: (await db.select({ id: users.id, email: users.email, name: users.name }).from(users).where(eq(users.email, 'owner@larkfield.test')))[0], session: null },
+			params: { workshop: 'larkfield', sessionId: camper.id },
+			url: new URL(`http://127.0.0.1/w/larkfield/sessions/${camper.id}`),
+			depends: () => {}
+		} as unknown as Parameters<typeof loadRunPage>[0])) as { view: { expectedEnd: string | null } };
+		expect(runPage.view.expectedEnd).not.toBeNull();
+		expect(Math.abs(camper.expectedEnd!.getTime() - new Date(runPage.view.expectedEnd!).getTime())).toBeLessThan(60_000);
 
 		// The pack's owner is a viewer: the trike's session only, and no planning.
 		const viewer = await pageFor('viewer@larkfield.test');

@@ -1,6 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { endpoint, problem, readJson, requireApiMember } from '$lib/server/api';
-import { createSession, listSessions } from '$lib/server/sessions/core';
+import { createSession } from '$lib/server/sessions/core';
+import { listSessionsForPeople } from '$lib/server/sessions/list';
 import { failureResponse } from '$lib/server/sessions/responses';
 import { sessionPlanSchema } from '$lib/schemas/sessions';
 import type { RequestHandler } from './$types';
@@ -12,7 +13,7 @@ export const GET: RequestHandler = async (event) => {
 	const member = await requireApiMember(event, 'sessions.view');
 	const packId = event.url.searchParams.get('packId');
 	if (packId !== null && !ID.test(packId)) return problem(400, { message: 'The pack id is not valid.' });
-	return json({ sessions: await listSessions(member, packId ? { packId } : {}) });
+	return json({ sessions: await listSessionsForPeople(member, packId ? { packId } : {}) });
 };
 
 /** A new session: the server computes the plan from the form's values (step times sent are not read). */

@@ -4,7 +4,7 @@ import { requireMemberWith } from '$lib/server/auth/permissions';
 import { listAttachments } from '$lib/server/attachments';
 import { listBatch } from '$lib/server/cells';
 import { packView } from '$lib/server/packs';
-import { listSessions } from '$lib/server/sessions/core';
+import { listSessionsForPeople } from '$lib/server/sessions/list';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
@@ -12,7 +12,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const [batch, attachments, sessions] = await Promise.all([
 		listBatch(member, params.packId),
 		listAttachments(member, params.packId),
-		listSessions(member, { packId: params.packId })
+		listSessionsForPeople(member, { packId: params.packId })
 	]);
 	const view = await packView(batch.pack, batch.spec);
 	const stats = groupStatistics(view.pack.series, batch.cells, view.spec.capacityAh);
