@@ -85,3 +85,35 @@ test('a technician runs a session on a phone and logs readings through a dropped
 	await expect(page.getByText('Stopped because: Group 1 felt warm')).toBeVisible();
 	await witness.dispose();
 });
+
+test('on a phone the floating Log readings button steps aside from the entry form and the Stop button', async ({ page }) => {
+	const slug = await signUp(page, { name: 'Fay Thumb', email: uniqueEmail('thumb'), workshop: 'Fay Bench' });
+	const sessionId = await plannedSession(page, slug);
+	await page.goto(`/w/${slug}/sessions/${sessionId}`);
+	await page.getByRole('button', { name: 'Start session' }).click();
+	await expect(page.getByText('Running', { exact: true })).toBeVisible();
+
+	const floating = page.getByRole('link', { name: 'Log readings' });
+	const entry = page.getByRole('region', { name: 'Log readings' });
+	// At the top of the screen the entry form is out of sight: the button is there.
+	await page.evaluate(() => window.scrollTo(0, 0));
+	await expect(entry).not.toBeInViewport();
+	await expect(floating).toBeVisible();
+	// A tap on it brings the form up, and the button goes, so it covers neither Save nor Stop.
+	await floating.click();
+	await expect(entry).toBeInViewport();
+	await expect(floating).toBeHidden();
+	const stop = page.getByRole('button', { name: 'Stop…' });
+	await stop.scrollIntoViewIfNeeded();
+	await expect(stop).toBeInViewport();
+	await expect(floating).toBeHidden();
+	// Scrolled back up, it returns.
+	await page.evaluate(() => window.scrollTo(0, 0));
+	await expect(floating).toBeVisible();
+
+	// The charts' note reads as a sentence once there is a reading.
+	await expect(entry.getByRole('button', { name: 'Save round' })).toBeEnabled();
+	await logRound(page, ['3.7', '3.6', '3.61', '3.598']);
+	await expect(entry.getByText('Saved 4 readings')).toBeVisible();
+	await expect(page.getByText(/^Times in \S+\. The figures below follow every reading/)).toBeVisible();
+});
