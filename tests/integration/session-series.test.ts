@@ -395,6 +395,33 @@ describe('session chart data', () => {
 		expect(body.steps[0]?.reestimate?.remainingHours).toBeGreaterThan(0);
 	});
 
+	it('says a step set at or below the cut-off current ends at the set voltage, with no CV taper', async () => {
+		// Built-in NMC ends at 0.05C: 0.05 × 4 Ah × 2 in parallel = 0.4 A; the step charges at 0.3 A.
+		const { owner, pack } = await packFixture({ series: 4, parallel: 2, capacityAh: 4 });
+		const [g1] = await groupsOf(pack.id);
+		const session = await sessionOf(owner, pack.id);
+		const start = Date.now() - 30 * MINUTE;
+		await db.insert(sessionSteps).values({
+			id: newId(),
+			sessionId: session.id,
+			position: 1,
+			groupId: g1.id,
+			channelLabel: 'Channel 1',
+			setVolts: 4.2,
+			amps: 0.3,
+			expectedStart: new Date(start),
+			expectedEnd: new Date(start + 20 * 60 * MINUTE),
+			ccHours: 20,
+			cvHours: 0,
+			actualStart: new Date(start),
+			status: 'running'
+		});
+		await insertReadings(session.id, pack.id, [{ groupId: g1.id, takenAt: new Date(start + 10 * MINUTE), volts: 3.9, amps: 0.3 }]);
+		const body = (await (await getSeries(owner, session.id)).json()) as SessionSeries;
+		expect(body.steps[0].predictedBasis).toContain('0.3 A is already at or below the 0.4 A cut-off, so there is no CV taper');
+		expect(body.steps[0].predictedBasis).not.toContain('tapering');
+	});
+
 	it('plannedCurrent: the exponential taper is at I/√(I/Iterm) halfway through CV (worked by hand)', () => {
 		// I = 2 A, Iterm = 0.2 A: halfway, 2 × 10^(−1/2) = 0.6325 A; at the end 0.2 A.
 		const points = plannedCurrent(0, { amps: 2, preHours: 0, ccHours: 1, cvHours: 2 }, 0.2, 2);

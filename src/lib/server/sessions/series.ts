@@ -524,9 +524,13 @@ async function stepSeries(
 			plannedCurrent(start.getTime(), { amps: s.amps!, preHours: s.preHours, ccHours: s.ccHours, cvHours: s.cvHours }, terminationAmps),
 			AMP_DIGITS
 		);
+		const cc = `Planned current: ${round(s.amps!, 2)} A (CC) for ${hoursText(s.preHours + s.ccHours)}, `;
 		predictedBasis =
-			`Planned current: ${round(s.amps!, 2)} A (CC) for ${hoursText(s.preHours + s.ccHours)}, ` +
-			`then CV tapering to ${round(terminationAmps, 2)} A over ${hoursText(s.cvHours)} — the plan's figures from the engine.`;
+			s.amps! <= terminationAmps || s.cvHours <= 0
+				? cc +
+					`done on reaching the set voltage: ${round(s.amps!, 2)} A is already at or below the ${round(terminationAmps, 2)} A ` +
+					`cut-off, so there is no CV taper — the plan's figures from the engine.`
+				: cc + `then CV tapering to ${round(terminationAmps, 2)} A over ${hoursText(s.cvHours)} — the plan's figures from the engine.`;
 		const readings: StepReading[] = (recent as unknown as { at: Date | string; volts: number; amps: number }[])
 			.map((r) => ({ at: new Date(r.at), volts: r.volts / scale, amps: r.amps }))
 			.reverse();
