@@ -8,6 +8,7 @@ import {
 	formatTemp,
 	formatVolts,
 	parseTyped,
+	readAtText,
 	stepInstruction,
 	waitingText
 } from './run-words';
@@ -92,6 +93,17 @@ describe('clock and typed numbers', () => {
 		expect(formatClock(new Date('2026-03-01T10:20:00Z'), now, 'Europe/Berlin')).toBe('11:20');
 		// 2026-03-02 was a Monday; 01:30 UTC is 02:30 in Berlin.
 		expect(formatClock(new Date('2026-03-02T01:30:00Z'), now, 'Europe/Berlin')).toBe('Mon 02:30');
+	});
+
+	it('marks a reading older than one interval with its time, and only then', () => {
+		const now = new Date('2026-03-01T10:00:00Z');
+		// 60-minute interval: 59 min old is fresh; 61 min old is marked, 08:59 UTC being 09:59 in Berlin (UTC+1).
+		expect(readAtText(new Date('2026-03-01T09:01:00Z'), now, 60, 'Europe/Berlin')).toBeNull();
+		expect(readAtText(new Date('2026-03-01T08:59:00Z'), now, 60, 'Europe/Berlin')).toBe('read at 09:59');
+		// A 15-minute interval marks a 20-minute-old reading; the day before shows its weekday.
+		expect(readAtText('2026-03-01T09:40:00Z', now, 15, 'Europe/Berlin')).toBe('read at 10:40');
+		expect(readAtText('2026-02-28T22:30:00Z', now, 60, 'Europe/Berlin')).toBe('read at Sat 23:30');
+		expect(readAtText(null, now, 60, 'Europe/Berlin')).toBeNull();
 	});
 
 	it('reads a decimal comma and refuses what is not a number', () => {

@@ -150,6 +150,16 @@ export function formatClock(at: Date | string, now: Date, timeZone: string): str
 	return `${new Intl.DateTimeFormat('en-GB', { weekday: 'short', timeZone }).format(when)} ${time}`;
 }
 
+/**
+ * "read at 04:45" for a tile whose reading is older than one reading interval, so an old number is
+ * never taken for the group's voltage now; null while the reading is fresh.
+ */
+export function readAtText(takenAt: Date | string | null, now: Date, intervalMinutes: number, timeZone: string): string | null {
+	if (takenAt === null) return null;
+	const ageMinutes = (now.getTime() - new Date(takenAt).getTime()) / 60_000;
+	return ageMinutes > intervalMinutes ? `read at ${formatClock(takenAt, now, timeZone)}` : null;
+}
+
 /** A number typed on a phone: a decimal comma is read as a point; blank is no value. */
 export function parseTyped(text: string): number | undefined | null {
 	const t = text.trim().replace(',', '.');

@@ -80,3 +80,16 @@ test('the workshop, its records and the audit trail pass axe in both themes, des
 	const charger = await firstLink(page, `${W}/chargers`, /\/chargers\/[a-z0-9]+$/);
 	await bothSizes(page, [`${W}/cell-specs`, spec, `${W}/chargers`, charger, `${W}/chemistries`, `${W}/workshop`, `${W}/workshop/members`, `${W}/workshop/audit`, '/account']);
 });
+
+// Here because this file has the demo running: its camper session's whole-pack reading was taken
+// during the bulk charge, hours ago, while the groups were read minutes before the demo loaded.
+test('the run screen marks a reading older than the reading interval with its time, not a fresh one', async ({ browser }) => {
+	const page = await ownerPage({ browser });
+	await page.setViewportSize(PHONE);
+	await page.goto(`${W}/sessions`);
+	await page.getByRole('main').getByRole('link', { name: 'Bulk charge and cell top-up' }).click();
+	await expect(page.getByRole('heading', { name: 'Bulk charge and cell top-up' })).toBeVisible();
+	await expect(page.locator('p', { hasText: 'Whole pack' })).toContainText(/read at \d\d:\d\d/);
+	await expect(page.getByRole('listitem', { name: 'Group 1' })).toBeVisible();
+	await expect(page.getByRole('listitem', { name: 'Group 1' })).not.toContainText('read at');
+});
