@@ -9,6 +9,7 @@ import { randomUUID } from 'node:crypto';
  *   from: string,
  *   to: string[],
  *   subject: string,
+ *   messageId: string,
  *   text: string,
  *   html: string,
  *   receivedAt: string,

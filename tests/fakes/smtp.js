@@ -52,6 +52,7 @@ export function createSmtpServer(mailbox) {
 							to: session.envelope.rcptTo.map((r) => r.address),
 							headerTo: addresses(mail.to),
 							subject: mail.subject ?? '',
+							messageId: mail.messageId ?? '',
 							text: mail.text ?? '',
 							html: typeof mail.html === 'string' ? mail.html : '',
 							attachments: mail.attachments.map((a) => ({

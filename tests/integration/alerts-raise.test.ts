@@ -410,4 +410,42 @@ describe('delivery that survives outages and crashes', () => {
 		const mails = (await mailTo(owner.user.email)).filter((m) => m.subject.includes('Group 2: over voltage'));
 		expect(mails).toHaveLength(1);
 	});
+
+	it('logs a try its process never finished as cut off, and the e-mail sent again keeps its Message-ID', async () => {
+		const { owner, session } = await sessionFixture();
+		await log(owner, session.id, [reading(3, { volts: 4.34 })]);
+		const [alert] = await alertsOf(session.id);
+		const email = async () => (await deliveriesOf(alert.id)).find((d) => d.channel === 'email')!;
+		await workQueueNow('deliver-alert');
+		const first = await email();
+		expect(first.status).toBe('sent');
+		expect(first.log.map((a) => [a.ok, a.cut ?? false])).toEqual([[true, false]]);
+		const subject = 'Group 3: over voltage';
+		const sent = (await mailTo(owner.user.email)).filter((m) => m.subject.includes(subject));
+		// The Message-ID names the delivery row, on the host of ORIGIN (127.0.0.1 in the tests).
+		expect(sent.map((m) => m.messageId)).toEqual([`<${first.id}.alert@127.0.0.1>`]);
+
+		// A crash after the claim: the row is pending again with a claim newer than its last outcome,
+		// as a job that expired under a killed process leaves it.
+		const claimedAt = new Date(new Date(first.log[0].at).getTime() + 1000);
+		await db.update(alertDeliveries).set({ status: 'pending', lastAttemptAt: claimedAt, sentAt: null }).where(eq(alertDeliveries.id, first.id));
+		expect(await deliverOne(first.id)).toBe('sent');
+		const after = await email();
+		expect(after.attempts).toBe(3);
+		expect(after.log.map((a) => [a.ok, a.cut ?? false])).toEqual([
+			[true, false],
+			[false, true],
+			[true, false]
+		]);
+		expect(after.log[1].at).toBe(claimedAt.toISOString());
+		expect(after.log[1].detail).toMatch(/may arrive twice/);
+		await expect
+			.poll(async () => (await mailTo(owner.user.email)).filter((m) => m.subject.includes(subject)).map((m) => m.messageId))
+			.toEqual([`<${first.id}.alert@127.0.0.1>`, `<${first.id}.alert@127.0.0.1>`]);
+
+		// A try that finished (failed or not) is no cut: a plain retry logs nothing extra.
+		await db.update(alertDeliveries).set({ status: 'pending' }).where(eq(alertDeliveries.id, first.id));
+		expect(await deliverOne(first.id)).toBe('sent');
+		expect((await email()).log.filter((a) => a.cut)).toHaveLength(1);
+	});
 });

@@ -27,7 +27,7 @@ export async function signUpOwner(label = 'owner', password = 'correct horse bat
 	return { ...result, email, password };
 }
 
-export type CaughtMail = { to: string[]; subject: string; text: string };
+export type CaughtMail = { to: string[]; subject: string; text: string; messageId: string };
 
 /** Messages the fake SMTP server caught for an address, newest first. */
 export async function mailTo(address: string): Promise<CaughtMail[]> {

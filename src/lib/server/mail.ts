@@ -1,7 +1,8 @@
 import nodemailer, { type Transporter } from 'nodemailer';
 import { serverEnv } from './env';
 
-export type Mail = { to: string; subject: string; text: string; html?: string };
+/** `messageId`: a fixed Message-ID, so that a message sent again is the same message to mail programs. */
+export type Mail = { to: string; subject: string; text: string; html?: string; messageId?: string };
 
 let transport: { url: string; transporter: Transporter } | undefined;
 

@@ -107,6 +107,16 @@ async function pushToPerson(userId: string, message: AlertForMessage, origin: st
 	return { ok: false, gone: false, detail };
 }
 
+const CUT_DETAIL = 'Cut off: the app stopped during this try. The message may have gone out, so it may arrive twice.';
+
+/**
+ * The alert e-mail's Message-ID, the same on every try of one delivery: a copy sent again after a
+ * cut-off try is the same message, which mail programs show once.
+ */
+export function deliveryMessageId(deliveryId: string, origin: string): string {
+	return `<${deliveryId}.alert@${new URL(origin).hostname}>`;
+}
+
 /**
  * One delivery attempt. Returns what happened; throws after recording a failure that is worth
  * retrying, so that pg-boss tries again later.
@@ -126,11 +136,24 @@ export async function deliverOne(deliveryId: string): Promise<'sent' | 'gone' | 
 		escalationMinutes: row.escalationMinutes
 	};
 	// Claim the row: a second job for it (the sweep's, or a retry racing one still running) skips.
+	// A claim newer than the last logged outcome is a try whose process stopped mid-way (the job
+	// expired and came back): it is logged as cut off, since its message may have gone out.
 	const claimed = await db.transaction(async (tx) => {
-		const [locked] = await tx.execute(sql`select status from alert_deliveries where id = ${deliveryId} for update skip locked`);
-		if (!locked || (locked as { status: string }).status !== 'pending') return false;
-		await tx.update(alertDeliveries).set({ lastAttemptAt: new Date() }).where(eq(alertDeliveries.id, deliveryId));
-		return true;
+		const [locked] = (await tx.execute(sql`
+			select status, last_attempt_at is not null
+				and (jsonb_array_length(log) = 0 or last_attempt_at > (log -> -1 ->> 'at')::timestamptz) as cut,
+				to_char(last_attempt_at at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') as cut_at
+			from alert_deliveries where id = ${deliveryId} for update skip locked`)) as unknown as { status: string; cut: boolean; cut_at: string | null }[];
+		if (!locked || locked.status !== 'pending') return null;
+		const cut: DeliveryAttempt[] = locked.cut ? [{ at: locked.cut_at!, ok: false, detail: CUT_DETAIL, cut: true }] : [];
+		await tx
+			.update(alertDeliveries)
+			.set({
+				lastAttemptAt: new Date(),
+				...(cut.length ? { attempts: sql`${alertDeliveries.attempts} + 1`, log: sql`${alertDeliveries.log} || ${JSON.stringify(cut)}::jsonb` } : {})
+			})
+			.where(eq(alertDeliveries.id, deliveryId));
+		return { cuts: cut.length };
 	});
 	if (!claimed) return 'skipped';
 
@@ -138,7 +161,7 @@ export async function deliverOne(deliveryId: string): Promise<'sent' | 'gone' | 
 	let outcome: Outcome;
 	try {
 		if (delivery.channel === 'email') {
-			await sendMail(alertMail(row.email, message, origin));
+			await sendMail({ ...alertMail(row.email, message, origin), messageId: deliveryMessageId(deliveryId, origin) });
 			outcome = { ok: true, detail: 'Accepted by the mail server.' };
 		} else {
 			outcome = await pushToPerson(delivery.userId, message, origin);
@@ -149,7 +172,7 @@ export async function deliverOne(deliveryId: string): Promise<'sent' | 'gone' | 
 
 	const now = new Date();
 	const attempt: DeliveryAttempt = { at: now.toISOString(), ok: outcome.ok, detail: outcome.detail };
-	const attempts = delivery.attempts + 1;
+	const attempts = delivery.attempts + claimed.cuts + 1;
 	const lastTry = attempts > DELIVERY_RETRY.retryLimit;
 	const status = outcome.ok ? 'sent' : !outcome.ok && outcome.gone ? 'gone' : lastTry ? 'failed' : 'pending';
 	await db

@@ -130,7 +130,11 @@ export type DeliveryReason = (typeof DELIVERY_REASONS)[number];
 export const DELIVERY_STATUSES = ['pending', 'sent', 'failed', 'held', 'gone'] as const;
 export type DeliveryStatus = (typeof DELIVERY_STATUSES)[number];
 
-export type DeliveryAttempt = { at: string; ok: boolean; detail: string };
+/**
+ * One try of a delivery. `cut`: the process stopped during the try (a crash, a kill) and never
+ * wrote its outcome — the message may have gone out, so the next try may deliver it twice.
+ */
+export type DeliveryAttempt = { at: string; ok: boolean; detail: string; cut?: true };
 
 /** One alert to one person on one channel: the outbox row its job sends, and the log of its attempts. */
 export const alertDeliveries = pgTable(
