@@ -353,9 +353,12 @@ describe('delivery that survives outages and crashes', () => {
 			await expect.poll(async () => (await rowsOf()).every((r) => r.attempts >= 1 && r.status !== 'sent'), { timeout: 15_000 }).toBe(true);
 			await new Promise((r) => setTimeout(r, Math.max(0, outageEnds - Date.now())));
 			mailSide = await startFakes({ smtpPort, httpPort: 0, pushPort: 0 });
-			// Back: every row is sent (the retries back off exponentially from 2 s), each alert once per channel.
+			// Back: every row is sent, each alert once per channel. The retries back off from 2 s, each
+			// delay 1–2 × double the last (pg-boss), so the try after the last failed one can come up to
+			// about twice the outage later: a try that fails just before a 180 s outage ends may be
+			// followed by a delay of up to 256 s.
 			await expect
-				.poll(async () => (await rowsOf()).map((r) => r.status), { timeout: OUTAGE_S * 1000 + 45_000, interval: 1000 })
+				.poll(async () => (await rowsOf()).map((r) => r.status), { timeout: 2 * OUTAGE_S * 1000 + 60_000, interval: 1000 })
 				.toEqual(['sent', 'sent', 'sent', 'sent', 'sent', 'sent']);
 			// The fake mail server files a message once it has parsed it: a moment after accepting it.
 			const mailed = () => mailSide!.mailbox.list(owner.user.email).map((m) => m.subject);
@@ -374,7 +377,7 @@ describe('delivery that survives outages and crashes', () => {
 			process.env.FAKES_URL = saved.FAKES_URL;
 			rereadServerEnv();
 		}
-	}, 400_000);
+	}, 3 * OUTAGE_S * 1000 + 150_000);
 
 	it('queues again the outbox rows a crash left behind, and a second job for a sent row sends nothing', async () => {
 		const { owner, session, pack, groups } = await sessionFixture();

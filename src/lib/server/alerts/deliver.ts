@@ -107,7 +107,7 @@ async function pushToPerson(userId: string, message: AlertForMessage, origin: st
 	return { ok: false, gone: false, detail };
 }
 
-const CUT_DETAIL = 'Cut off: the app stopped during this try. The message may have gone out, so it may arrive twice.';
+const CUT_DETAIL = 'The app stopped during this try; the message may have gone out, so it may arrive twice.';
 
 /**
  * The alert e-mail's Message-ID, the same on every try of one delivery: a copy sent again after a
