@@ -43,12 +43,10 @@ test('an over-temperature reading reaches the tile, the inbox and the phone as a
 
 	// The service worker shows that very payload.
 	const sw = await serviceWorkerPush(page, baseURL!);
-	await sw.push(JSON.stringify(payload));
-	await expect
-		.poll(async () => (await sw.shown(payload!.tag)).map((n) => ({ title: n.title, url: n.data.url, sticky: n.requireInteraction })), {
-			timeout: 15_000
-		})
-		.toEqual([{ title: payload!.title, url: payload!.url, sticky: true }]);
+	const shown = await sw.pushUntilShown(JSON.stringify(payload), payload!.tag);
+	expect(shown.map((n) => ({ title: n.title, url: n.data.url, sticky: n.requireInteraction }))).toEqual([
+		{ title: payload!.title, url: payload!.url, sticky: true }
+	]);
 	const alertPath = new URL(payload!.url).pathname;
 
 	// The inbox lists it first; its page says what to do; acknowledging it ends the red strip.

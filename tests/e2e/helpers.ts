@@ -170,21 +170,45 @@ export async function serviceWorkerPush(page: Page, baseURL: string) {
 	return {
 		// Delivered only once the worker is active: a push handed to a worker still installing can be
 		// dropped, which a loaded machine showed once as a notification that never came.
-		push: async (data: string) => {
-			await page.evaluate(async () => void (await navigator.serviceWorker.ready));
-			await cdp.send('ServiceWorker.deliverPushMessage', { origin, registrationId: await registrationId, data });
+		push,
+		/**
+		 * Pushes `data` and waits for a notification tagged `tag`, pushing again every 5 s up to
+		 * `timeoutMs`: DevTools' push delivery can drop a message while Chromium restarts the worker
+		 * (seen on a loaded machine), which a real push service would deliver again. The same tag
+		 * replaces, so a second delivery shows the same one notification.
+		 */
+		async pushUntilShown(data: string, tag: string, timeoutMs = 20_000) {
+			const deadline = Date.now() + timeoutMs;
+			for (;;) {
+				await push(data);
+				const tryUntil = Math.min(deadline, Date.now() + 5_000);
+				while (Date.now() < tryUntil) {
+					const list = await shown(tag);
+					if (list.length) return list;
+					await page.waitForTimeout(250);
+				}
+				if (Date.now() >= deadline) return shown(tag);
+			}
 		},
-		shown: (tag: string) =>
-			page.evaluate(async (t) => {
-				const registration = await navigator.serviceWorker.ready;
-				return (await registration.getNotifications({ tag: t })).map((n) => ({
-					title: n.title,
-					body: n.body,
-					data: n.data as { url: string },
-					requireInteraction: n.requireInteraction
-				}));
-			}, tag)
+		shown
 	};
+
+	async function push(data: string) {
+		await page.evaluate(async () => void (await navigator.serviceWorker.ready));
+		await cdp.send('ServiceWorker.deliverPushMessage', { origin, registrationId: await registrationId, data });
+	}
+
+	function shown(tag: string) {
+		return page.evaluate(async (t) => {
+			const registration = await navigator.serviceWorker.ready;
+			return (await registration.getNotifications({ tag: t })).map((n) => ({
+				title: n.title,
+				body: n.body,
+				data: n.data as { url: string },
+				requireInteraction: n.requireInteraction
+			}));
+		}, tag);
+	}
 }
 
 /** A round on the run screen: one volts-per-cell value per group (Enter moves on), then "Save round". */
