@@ -526,7 +526,7 @@ async function stepSeries(
 		);
 		const cc = `Planned current: ${round(s.amps!, 2)} A (CC) for ${hoursText(s.preHours + s.ccHours)}, `;
 		predictedBasis =
-			s.amps! <= terminationAmps || s.cvHours <= 0
+			s.amps! <= terminationAmps
 				? cc +
 					`done on reaching the set voltage: ${round(s.amps!, 2)} A is already at or below the ${round(terminationAmps, 2)} A ` +
 					`cut-off, so there is no CV taper — the plan's figures from the engine.`
